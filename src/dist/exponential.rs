@@ -1,0 +1,52 @@
+//! Exponential distribution with a given mean (JCGM 101:2008, 6.4.10): the maximum-entropy
+//! choice for a non-negative quantity of which only the estimate is known.
+
+use super::{Family, ParameterError, require_positive};
+use rand::Rng;
+use rand_distr::{Distribution as _, Exp1};
+
+/// Exponential with expectation `mean` (rate 1/mean); variance mean^2.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Exponential {
+    mean: f64,
+}
+
+impl Exponential {
+    /// An exponential distribution; `mean` must be positive.
+    pub fn new(mean: f64) -> Result<Self, ParameterError> {
+        Ok(Exponential {
+            mean: require_positive("mean", mean)?,
+        })
+    }
+}
+
+impl Family for Exponential {
+    fn mean(&self) -> f64 {
+        self.mean
+    }
+    fn variance(&self) -> f64 {
+        self.mean * self.mean
+    }
+    #[inline(always)]
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        let e: f64 = Exp1.sample(rng);
+        self.mean * e
+    }
+    fn quantile(&self, p: f64) -> f64 {
+        -self.mean * (-p).ln_1p()
+    }
+    fn cdf(&self, x: f64) -> f64 {
+        if x <= 0.0 {
+            0.0
+        } else {
+            -(-x / self.mean).exp_m1()
+        }
+    }
+    fn pdf(&self, x: f64) -> f64 {
+        if x < 0.0 {
+            0.0
+        } else {
+            (-x / self.mean).exp() / self.mean
+        }
+    }
+}

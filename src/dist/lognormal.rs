@@ -1,0 +1,62 @@
+//! Lognormal distribution given by the mean and standard deviation of the quantity itself.
+
+use super::special::{std_normal_cdf, std_normal_pdf, std_normal_quantile};
+use super::{Family, ParameterError, require_positive};
+use rand::Rng;
+use rand_distr::{Distribution as _, StandardNormal};
+
+/// x = exp(mu + sigma z) with sigma^2 = ln(1 + sd^2/mean^2) and mu = ln(mean) - sigma^2/2, so
+/// that E[x] = mean and sd(x) = sd (Johnson, Kotz and Balakrishnan vol. 1, 14.3).
+#[derive(Clone, Debug, PartialEq)]
+pub struct LogNormal {
+    mean: f64,
+    sd: f64,
+    mu: f64,
+    sigma: f64,
+}
+
+impl LogNormal {
+    /// A lognormal of the given mean and standard deviation, both positive.
+    pub fn new(mean: f64, sd: f64) -> Result<Self, ParameterError> {
+        let mean = require_positive("mean", mean)?;
+        let sd = require_positive("sd", sd)?;
+        let sigma2 = (sd / mean).powi(2).ln_1p();
+        Ok(LogNormal {
+            mean,
+            sd,
+            mu: mean.ln() - 0.5 * sigma2,
+            sigma: sigma2.sqrt(),
+        })
+    }
+}
+
+impl Family for LogNormal {
+    fn mean(&self) -> f64 {
+        self.mean
+    }
+    fn variance(&self) -> f64 {
+        self.sd * self.sd
+    }
+    #[inline(always)]
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        let z: f64 = StandardNormal.sample(rng);
+        (self.mu + self.sigma * z).exp()
+    }
+    fn quantile(&self, p: f64) -> f64 {
+        (self.mu + self.sigma * std_normal_quantile(p)).exp()
+    }
+    fn cdf(&self, x: f64) -> f64 {
+        if x <= 0.0 {
+            0.0
+        } else {
+            std_normal_cdf((x.ln() - self.mu) / self.sigma)
+        }
+    }
+    fn pdf(&self, x: f64) -> f64 {
+        if x <= 0.0 {
+            0.0
+        } else {
+            std_normal_pdf((x.ln() - self.mu) / self.sigma) / (x * self.sigma)
+        }
+    }
+}

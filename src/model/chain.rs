@@ -1,0 +1,112 @@
+//! Built-in measurement chains: named models over the `physics` functions, with the inputs
+//! they take and the measurands they give.
+//!
+//! To add a chain: describe its inputs and measurands in a `ChainSpec` constant, write its
+//! evaluation as a pure generic function in its own file under `model/`, add a [`ChainKind`]
+//! variant and wire it in [`ChainKind::spec`] and [`ChainKind::evaluate`].
+
+use crate::scalar::Scalar;
+use crate::units::Dimension;
+
+/// The physical range an input of a chain must stay in; a distribution with more than a
+/// negligible probability outside it is refused at load.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Domain {
+    /// Any real value.
+    Any,
+    /// Greater than zero.
+    Positive,
+    /// Zero or more.
+    NonNegative,
+    /// A fraction in [0, 1] (reflectance, transmittance).
+    UnitInterval,
+    /// An angle of incidence strictly between -90 deg and 90 deg.
+    Incidence,
+    /// A quality factor above 1/2 (an oscillator that still oscillates).
+    QualityFactor,
+    /// A whole count of at least 1, given as a constant.
+    Count,
+}
+
+/// One input quantity of a chain.
+#[derive(Clone, Copy, Debug)]
+pub struct ChainInput {
+    /// Name as written in `[inputs.NAME]`.
+    pub name: &'static str,
+    /// Its dimension; quantities with another dimension are refused.
+    pub dimension: Dimension,
+    /// The value used when the scenario leaves it out; `None` when it is required.
+    pub default: Option<f64>,
+    /// Where its values must lie.
+    pub domain: Domain,
+    /// What it is, in the trade's words.
+    pub description: &'static str,
+}
+
+/// One measurand a chain gives.
+#[derive(Clone, Copy, Debug)]
+pub struct ChainMeasurand {
+    /// Name in the report.
+    pub name: &'static str,
+    /// Its dimension (its SI unit is shown).
+    pub dimension: Dimension,
+    /// What it is.
+    pub description: &'static str,
+}
+
+/// The inputs and measurands of a chain.
+#[derive(Clone, Copy, Debug)]
+pub struct ChainSpec {
+    /// The name in `[model] chain = "..."`.
+    pub name: &'static str,
+    /// One line on what the chain computes.
+    pub summary: &'static str,
+    /// Inputs in the order [`ChainKind::evaluate`] takes them.
+    pub inputs: &'static [ChainInput],
+    /// Measurands in the order [`ChainKind::evaluate`] writes them.
+    pub measurands: &'static [ChainMeasurand],
+}
+
+impl ChainSpec {
+    /// Position of an input by name.
+    pub fn input_index(&self, name: &str) -> Option<usize> {
+        self.inputs.iter().position(|i| i.name == name)
+    }
+}
+
+/// The built-in chains.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ChainKind {
+    /// Calibration direction of a torsion balance: power from the optical-lever reading.
+    TorsionPower,
+    /// Planning direction of a torsion balance: the signals a given power produces.
+    TorsionSignal,
+}
+
+impl ChainKind {
+    /// Every chain, in the order shown to users.
+    pub const ALL: [ChainKind; 2] = [ChainKind::TorsionPower, ChainKind::TorsionSignal];
+
+    /// Look a chain up by its scenario name.
+    pub fn from_name(name: &str) -> Option<ChainKind> {
+        Self::ALL.into_iter().find(|c| c.spec().name == name)
+    }
+
+    /// Its inputs and measurands.
+    pub fn spec(self) -> &'static ChainSpec {
+        match self {
+            ChainKind::TorsionPower => &super::torsion::TORSION_POWER,
+            ChainKind::TorsionSignal => &super::torsion::TORSION_SIGNAL,
+        }
+    }
+
+    /// Evaluate the chain on one trial: `args` in the order of `spec().inputs`, results into
+    /// `out` in the order of `spec().measurands`.
+    #[inline(always)]
+    pub fn evaluate<T: Scalar>(self, args: &[T], out: &mut [T]) {
+        match self {
+            ChainKind::TorsionPower => super::torsion::torsion_power(args, out),
+            ChainKind::TorsionSignal => super::torsion::torsion_signal(args, out),
+        }
+    }
+}

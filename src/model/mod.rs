@@ -1,0 +1,133 @@
+//! Measurement models: a built-in chain, user formulas, or both, compiled once into a [`Model`]
+//! that evaluates a block of trials with no string lookups and no allocation.
+//!
+//! Trials live in a column block: column `c` holds `stride` trials at `c * stride`. The first
+//! `inputs` columns are the input quantities (filled by the engine), the next ones the
+//! measurands in report order (filled here). Evaluation is generic over [`Scalar`] so the same
+//! model runs on `f64` trials and on derivative-carrying numbers for the law of propagation.
+
+pub mod chain;
+pub mod formula;
+mod torsion;
+
+pub use chain::{ChainInput, ChainKind, ChainMeasurand, ChainSpec, Domain};
+
+use crate::scalar::Scalar;
+use formula::Program;
+
+/// Where a chain argument comes from.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum ArgSource {
+    /// A column of the trial block (an input quantity).
+    Column(usize),
+    /// A fixed value (a chain default for an input the scenario left out).
+    Fixed(f64),
+}
+
+/// The most arguments a chain takes.
+pub const MAX_CHAIN_ARGS: usize = 24;
+/// The most measurands a chain gives.
+pub const MAX_CHAIN_OUTPUTS: usize = 8;
+
+/// A chain with its arguments bound to columns.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BoundChain {
+    /// Which chain.
+    pub kind: ChainKind,
+    /// One source per chain input, in spec order.
+    pub args: Vec<ArgSource>,
+    /// Column of the chain's first measurand; the rest follow in spec order.
+    pub first_output: usize,
+}
+
+/// A formula measurand.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FormulaStep {
+    /// Column the result goes to.
+    pub column: usize,
+    /// The compiled formula.
+    pub program: Program,
+}
+
+/// A compiled measurement model.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Model {
+    /// Number of input columns.
+    pub inputs: usize,
+    /// Number of measurand columns.
+    pub measurands: usize,
+    /// The chain, if any; evaluated first.
+    pub chain: Option<BoundChain>,
+    /// Formula measurands in an order where each comes after everything it uses.
+    pub steps: Vec<FormulaStep>,
+}
+
+impl Model {
+    /// Total columns: inputs then measurands.
+    pub fn columns(&self) -> usize {
+        self.inputs + self.measurands
+    }
+
+    /// Stack space (in blocks) the formulas need.
+    pub fn stack_depth(&self) -> usize {
+        self.steps
+            .iter()
+            .map(|s| s.program.depth())
+            .max()
+            .unwrap_or(0)
+    }
+
+    /// Evaluate `n <= stride` trials of the block `work` (`columns() * stride` values) in place:
+    /// reads the input columns, writes the measurand columns. `stack` needs
+    /// `stack_depth() * stride` values.
+    #[inline]
+    pub fn evaluate_block<T: Scalar>(
+        &self,
+        work: &mut [T],
+        stride: usize,
+        n: usize,
+        stack: &mut [T],
+    ) {
+        if let Some(chain) = &self.chain {
+            evaluate_chain(chain, work, stride, n);
+        }
+        for step in &self.steps {
+            step.program.eval_block(work, stride, n, stack);
+            work[step.column * stride..step.column * stride + n].copy_from_slice(&stack[..n]);
+        }
+    }
+
+    /// Evaluate one trial from input values; returns all measurands in report order.
+    pub fn evaluate_point<T: Scalar>(&self, inputs: &[T]) -> Vec<T> {
+        let mut work = vec![T::cst(0.0); self.columns()];
+        work[..self.inputs].copy_from_slice(inputs);
+        let mut stack = vec![T::cst(0.0); self.stack_depth().max(1)];
+        self.evaluate_block(&mut work, 1, 1, &mut stack);
+        work[self.inputs..].to_vec()
+    }
+}
+
+#[inline]
+fn evaluate_chain<T: Scalar>(chain: &BoundChain, work: &mut [T], stride: usize, n: usize) {
+    let kind = chain.kind;
+    let outputs = kind.spec().measurands.len();
+    let mut args = [T::cst(0.0); MAX_CHAIN_ARGS];
+    let mut out = [T::cst(0.0); MAX_CHAIN_OUTPUTS];
+    let na = chain.args.len();
+    for (slot, src) in args.iter_mut().zip(&chain.args) {
+        if let ArgSource::Fixed(v) = src {
+            *slot = T::cst(*v);
+        }
+    }
+    for i in 0..n {
+        for (slot, src) in args.iter_mut().zip(&chain.args) {
+            if let ArgSource::Column(c) = src {
+                *slot = work[c * stride + i];
+            }
+        }
+        kind.evaluate(&args[..na], &mut out[..outputs]);
+        for (m, v) in out[..outputs].iter().enumerate() {
+            work[(chain.first_output + m) * stride + i] = *v;
+        }
+    }
+}

@@ -1,0 +1,331 @@
+//! The torsion-balance chains: `torsion-power` (calibration: power from the reading) and
+//! `torsion-signal` (planning: the reading a power produces). Each is the inverse of the other.
+//!
+//! torsion-power, exactly:
+//! kappa = I (2 pi / T0)^2, divided by (1 - 1/(4 Q^2)) when Q is given;
+//! phi = atan(s / D) / 2;  F = kappa phi / L - F_stray;
+//! eta = 1 - exp(-2 a^2 / w^2);  g = (1 + R - T) cos(theta) + (2/3) Rd;  S = sum_{k<n} R^k;
+//! P = F c / (g eta S).
+//! Sources: momentum transfer and the multi-bounce sum in `physics::momentum`, the Gaussian
+//! clipping in `physics::beam`, the balance and optical lever in `physics::torsion`.
+
+use super::chain::{ChainInput, ChainMeasurand, ChainSpec, Domain};
+use crate::physics::beam::gaussian_aperture_fraction;
+use crate::physics::constants::SPEED_OF_LIGHT;
+use crate::physics::momentum::{bounce_sum, normal_force_factor};
+use crate::physics::torsion::{
+    damping_corrected, deflection_angle, optical_lever_angle, optical_lever_shift,
+    torsion_constant_from_period,
+};
+use crate::scalar::Scalar;
+use crate::units::Dimension;
+
+const fn input(
+    name: &'static str,
+    dimension: Dimension,
+    default: Option<f64>,
+    domain: Domain,
+    description: &'static str,
+) -> ChainInput {
+    ChainInput {
+        name,
+        dimension,
+        default,
+        domain,
+        description,
+    }
+}
+
+/// The balance, mirror and beam inputs shared by both torsion chains (after the first, which
+/// differs).
+macro_rules! shared_inputs {
+    () => {
+        [
+            input(
+                "scale_distance",
+                Dimension::LENGTH,
+                None,
+                Domain::Positive,
+                "distance D from the pendulum mirror to the optical-lever scale",
+            ),
+            input(
+                "free_period",
+                Dimension::TIME,
+                None,
+                Domain::Positive,
+                "free oscillation period T0 of the pendulum",
+            ),
+            input(
+                "moment_of_inertia",
+                Dimension::MOMENT_OF_INERTIA,
+                None,
+                Domain::Positive,
+                "moment of inertia I of the pendulum about the fibre",
+            ),
+            input(
+                "lever_arm",
+                Dimension::LENGTH,
+                None,
+                Domain::Positive,
+                "lever arm L from the beam spot to the fibre axis",
+            ),
+            input(
+                "reflectance",
+                Dimension::NONE,
+                None,
+                Domain::UnitInterval,
+                "specular reflectance R of the mirror",
+            ),
+            input(
+                "incidence",
+                Dimension::ANGLE,
+                None,
+                Domain::Incidence,
+                "angle of incidence theta on the mirror",
+            ),
+            input(
+                "beam_radius",
+                Dimension::LENGTH,
+                None,
+                Domain::Positive,
+                "1/e^2 radius w of the Gaussian beam at the mirror",
+            ),
+            input(
+                "mirror_radius",
+                Dimension::LENGTH,
+                None,
+                Domain::Positive,
+                "radius a of the (centred, circular) mirror",
+            ),
+            input(
+                "transmittance",
+                Dimension::NONE,
+                Some(0.0),
+                Domain::UnitInterval,
+                "transmittance T of the mirror (default 0)",
+            ),
+            input(
+                "diffuse_reflectance",
+                Dimension::NONE,
+                Some(0.0),
+                Domain::UnitInterval,
+                "diffuse (Lambertian) reflectance Rd (default 0)",
+            ),
+            input(
+                "bounces",
+                Dimension::NONE,
+                Some(1.0),
+                Domain::Count,
+                "reflections whose force acts on the pendulum (default 1)",
+            ),
+            input(
+                "quality_factor",
+                Dimension::NONE,
+                Some(f64::INFINITY),
+                Domain::QualityFactor,
+                "quality factor Q of the free oscillation (absent: undamped)",
+            ),
+            input(
+                "stray_force",
+                Dimension::FORCE,
+                Some(0.0),
+                Domain::Any,
+                "force on the arm not due to radiation (gas, electrostatics), default 0",
+            ),
+        ]
+    };
+}
+
+const fn with_first(first: ChainInput) -> [ChainInput; 14] {
+    let rest: [ChainInput; 13] = shared_inputs!();
+    let mut all = [first; 14];
+    let mut i = 0;
+    while i < 13 {
+        all[i + 1] = rest[i];
+        i += 1;
+    }
+    all
+}
+
+const TORSION_POWER_INPUTS: [ChainInput; 14] = with_first(input(
+    "readout_shift",
+    Dimension::LENGTH,
+    None,
+    Domain::Any,
+    "spot displacement s on the optical-lever scale",
+));
+
+const TORSION_SIGNAL_INPUTS: [ChainInput; 14] = with_first(input(
+    "power",
+    Dimension::POWER,
+    None,
+    Domain::NonNegative,
+    "laser power P arriving at the first mirror",
+));
+
+/// Spec of `torsion-power`.
+pub const TORSION_POWER: ChainSpec = ChainSpec {
+    name: "torsion-power",
+    summary: "laser power from the deflection of a torsion pendulum read by an optical lever",
+    inputs: &TORSION_POWER_INPUTS,
+    measurands: &[
+        ChainMeasurand {
+            name: "power",
+            dimension: Dimension::POWER,
+            description: "laser power P",
+        },
+        ChainMeasurand {
+            name: "force",
+            dimension: Dimension::FORCE,
+            description: "radiation force F on the mirror",
+        },
+        ChainMeasurand {
+            name: "torsion_constant",
+            dimension: Dimension::TORSION_CONSTANT,
+            description: "torsion constant kappa of the pendulum",
+        },
+    ],
+};
+
+/// Spec of `torsion-signal`.
+pub const TORSION_SIGNAL: ChainSpec = ChainSpec {
+    name: "torsion-signal",
+    summary: "the force, torque, deflection and optical-lever reading a given laser power produces",
+    inputs: &TORSION_SIGNAL_INPUTS,
+    measurands: &[
+        ChainMeasurand {
+            name: "force",
+            dimension: Dimension::FORCE,
+            description: "radiation force F on the mirror",
+        },
+        ChainMeasurand {
+            name: "torque",
+            dimension: Dimension::TORQUE,
+            description: "torque (F + stray force) L about the fibre",
+        },
+        ChainMeasurand {
+            name: "deflection_angle",
+            dimension: Dimension::ANGLE,
+            description: "static deflection phi of the pendulum",
+        },
+        ChainMeasurand {
+            name: "readout_shift",
+            dimension: Dimension::LENGTH,
+            description: "spot displacement s on the optical-lever scale",
+        },
+    ],
+};
+
+/// The shared balance, mirror and beam quantities, in spec order after the first input.
+struct Setup<T> {
+    scale_distance: T,
+    kappa: T,
+    lever_arm: T,
+    /// g eta S / c: newtons per watt arriving at the first mirror.
+    force_per_watt: T,
+    stray_force: T,
+}
+
+#[inline(always)]
+fn setup<T: Scalar>(a: &[T]) -> Setup<T> {
+    let (scale_distance, free_period, moment_of_inertia, lever_arm) = (a[1], a[2], a[3], a[4]);
+    let (reflectance, incidence, beam_radius, mirror_radius) = (a[5], a[6], a[7], a[8]);
+    let (transmittance, diffuse, bounces, quality_factor, stray_force) =
+        (a[9], a[10], a[11], a[12], a[13]);
+    let mut kappa = torsion_constant_from_period(moment_of_inertia, free_period);
+    if quality_factor.value().is_finite() {
+        kappa = damping_corrected(kappa, quality_factor);
+    }
+    let eta = gaussian_aperture_fraction(mirror_radius, beam_radius);
+    let g = normal_force_factor(reflectance, transmittance, diffuse, incidence);
+    // `bounces` is validated at load as a whole constant >= 1.
+    let s = bounce_sum(reflectance, bounces.value().round() as u32);
+    Setup {
+        scale_distance,
+        kappa,
+        lever_arm,
+        force_per_watt: g * eta * s / T::cst(SPEED_OF_LIGHT),
+        stray_force,
+    }
+}
+
+/// `torsion-power`: args in [`TORSION_POWER`] input order; out = [power, force,
+/// torsion_constant].
+#[inline(always)]
+pub fn torsion_power<T: Scalar>(a: &[T], out: &mut [T]) {
+    let readout_shift = a[0];
+    let s = setup(a);
+    let phi = optical_lever_angle(readout_shift, s.scale_distance);
+    let force = s.kappa * phi / s.lever_arm - s.stray_force;
+    out[0] = force / s.force_per_watt;
+    out[1] = force;
+    out[2] = s.kappa;
+}
+
+/// `torsion-signal`: args in [`TORSION_SIGNAL`] input order; out = [force, torque,
+/// deflection_angle, readout_shift].
+#[inline(always)]
+pub fn torsion_signal<T: Scalar>(a: &[T], out: &mut [T]) {
+    let power = a[0];
+    let s = setup(a);
+    let force = power * s.force_per_watt;
+    let torque = (force + s.stray_force) * s.lever_arm;
+    let phi = deflection_angle(torque, s.kappa);
+    out[0] = force;
+    out[1] = torque;
+    out[2] = phi;
+    out[3] = optical_lever_shift(s.scale_distance, phi);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    fn args(first: f64) -> [f64; 14] {
+        [
+            first, 2.0, 240.0, 3.0e-4, 0.05, 0.9995, 0.2, 1.5e-3, 6e-3, 1e-4, 2e-4, 3.0, 5000.0,
+            1e-12,
+        ]
+    }
+
+    // The two directions are inverse to each other (a round trip returns the power).
+    #[test]
+    fn round_trip_returns_the_power() {
+        let mut signal = [0.0; 4];
+        torsion_signal(&args(25.0), &mut signal);
+        let mut power = [0.0; 3];
+        torsion_power(&args(signal[3]), &mut power);
+        assert_relative_eq!(power[0], 25.0, max_relative = 1e-12);
+        assert_relative_eq!(power[1], signal[0], max_relative = 1e-12);
+    }
+
+    // An ideal single mirror at normal incidence: F = 2 P / c, and the reading follows from
+    // kappa = I (2 pi / T0)^2 by hand [calc].
+    #[test]
+    fn ideal_mirror_by_hand() {
+        let a = [
+            10.0,
+            1.0,
+            100.0,
+            1e-4,
+            0.05,
+            1.0,
+            0.0,
+            1e-3,
+            1.0,
+            0.0,
+            0.0,
+            1.0,
+            f64::INFINITY,
+            0.0,
+        ];
+        let mut out = [0.0; 4];
+        torsion_signal(&a, &mut out);
+        let f = 2.0 * 10.0 / SPEED_OF_LIGHT;
+        let kappa = 1e-4 * (2.0 * std::f64::consts::PI / 100.0f64).powi(2);
+        assert_relative_eq!(out[0], f, max_relative = 1e-12);
+        assert_relative_eq!(out[2], f * 0.05 / kappa, max_relative = 1e-12);
+        assert_relative_eq!(out[3], (2.0 * f * 0.05 / kappa).tan(), max_relative = 1e-12);
+    }
+}

@@ -1,0 +1,10 @@
+//! Pure functions of the trade: constants, the beam, momentum transfer to a mirror, the torsion
+//! balance and its optical-lever readout. Every function is generic over [`Scalar`] so that the
+//! law of propagation can differentiate it exactly; none prints or allocates.
+//!
+//! [`Scalar`]: crate::scalar::Scalar
+
+pub mod beam;
+pub mod constants;
+pub mod momentum;
+pub mod torsion;

@@ -1,0 +1,167 @@
+//! Number formatting for reports: the GUM rounding rule and readable units.
+//!
+//! JCGM 100:2008 7.2.6: quote the standard uncertainty to at most two significant digits and
+//! round the estimate to the same decimal place. Reports apply it in text; JSON keeps full
+//! precision.
+
+use crate::analysis::MeasurandFinding;
+use crate::units::{DisplayUnit, readable_unit};
+
+/// Decimal exponent of the last digit kept when `u` is shown to `digits` significant digits
+/// (after rounding, so 0.0996 to two digits keeps 0.10, exponent -2).
+pub fn last_digit_exponent(u: f64, digits: i32) -> i32 {
+    if !(u.is_finite() && u > 0.0) {
+        return -6;
+    }
+    let mut e = u.log10().floor() as i32 - (digits - 1);
+    let rounded = (u / 10f64.powi(e)).round();
+    if rounded >= 10f64.powi(digits) {
+        e += 1;
+    }
+    e
+}
+
+/// Format `x` rounded at decimal exponent `e` (e = -3 gives three decimals).
+pub fn fixed(x: f64, e: i32) -> String {
+    let s = if e < 0 {
+        format!("{:.*}", (-e) as usize, x)
+    } else {
+        let step = 10f64.powi(e);
+        format!("{:.0}", (x / step).round() * step)
+    };
+    // "-0.000" reads as a sign that is not there.
+    if s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.') {
+        s[1..].to_string()
+    } else {
+        s
+    }
+}
+
+/// A value and its uncertainty by the GUM rule, in the same unit: ("25.013", "0.052", e).
+pub fn value_and_uncertainty(x: f64, u: f64) -> (String, String, i32) {
+    let e = last_digit_exponent(u, 2);
+    (fixed(x, e), fixed(u, e), e)
+}
+
+/// A relative uncertainty as a percentage with two significant digits ("0.21 %"), or "-" when
+/// the estimate is zero.
+pub fn relative_percent(u: f64, x: f64) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return "-".to_string();
+    }
+    let r = 100.0 * u / x.abs();
+    if r == 0.0 {
+        return "0 %".to_string();
+    }
+    format!("{} %", fixed(r, last_digit_exponent(r, 2)))
+}
+
+/// The unit a measurand is shown in: the declared one, or a readable SI prefix for its size.
+pub fn measurand_unit(m: &MeasurandFinding) -> DisplayUnit {
+    if m.unit_declared {
+        return m.unit.clone();
+    }
+    match m.dimension {
+        Some(d) => {
+            let s = &m.monte_carlo;
+            let size = if s.estimate != 0.0 {
+                s.estimate.abs()
+            } else {
+                s.standard_uncertainty
+            };
+            readable_unit(d, size)
+        }
+        None => m.unit.clone(),
+    }
+}
+
+/// Whether numbers of this size read badly in fixed notation.
+fn awkward(x: f64) -> bool {
+    x != 0.0 && !(1e-3..1e6).contains(&x.abs())
+}
+
+/// Scientific notation with `decimals` digits after the point ("1.2000e-4").
+pub fn scientific(x: f64, decimals: usize) -> String {
+    format!("{x:.decimals$e}")
+}
+
+/// An input's estimate and uncertainty with the unit to show them in: the unit the scenario
+/// wrote, a readable SI prefix when the numbers would read badly in it, or scientific notation
+/// for units that take no prefix. `u = None` marks a constant (shown exactly).
+pub fn input_pair(
+    x: f64,
+    u: Option<f64>,
+    shown: &DisplayUnit,
+    dimension: Option<crate::units::Dimension>,
+) -> (String, String, String) {
+    let size = if x != 0.0 { x.abs() } else { u.unwrap_or(0.0) };
+    let mut unit = shown.clone();
+    if awkward(size / unit.factor)
+        && let Some(d) = dimension
+    {
+        let r = readable_unit(d, size);
+        if !awkward(size / r.factor) {
+            unit = r;
+        }
+    }
+    let k = unit.factor;
+    match u {
+        None => (exact(x / k), "exact".into(), unit.symbol),
+        Some(u) if awkward(size / k) || (x == 0.0 && awkward(u / k)) => {
+            let e = last_digit_exponent(u / k, 2);
+            let lead = if x != 0.0 {
+                (x / k).abs().log10().floor() as i32
+            } else {
+                (u / k).log10().floor() as i32
+            };
+            let decimals = (lead - e).max(1) as usize;
+            let ue = (u / k).log10().floor() as i32;
+            (
+                scientific(x / k, decimals),
+                scientific(u / k, ((ue - e).max(1)) as usize),
+                unit.symbol,
+            )
+        }
+        Some(u) => {
+            let (a, b, _) = value_and_uncertainty(x / k, u / k);
+            (a, b, unit.symbol)
+        }
+    }
+}
+
+/// A number in its shortest exact form, for constants.
+pub fn exact(x: f64) -> String {
+    format!("{x}")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // JCGM 100 7.2.6: two significant digits for u, estimate to the same place.
+    #[test]
+    fn gum_rounding() {
+        assert_eq!(
+            value_and_uncertainty(25.01349, 0.05172),
+            ("25.013".into(), "0.052".into(), -3)
+        );
+        assert_eq!(
+            value_and_uncertainty(1.23412, 0.07548),
+            ("1.234".into(), "0.075".into(), -3)
+        );
+        assert_eq!(
+            value_and_uncertainty(100.02, 0.0996),
+            ("100.02".into(), "0.10".into(), -2)
+        );
+        assert_eq!(
+            value_and_uncertainty(12345.6, 320.0),
+            ("12300".into(), "320".into(), 1)
+        );
+        assert_eq!(
+            value_and_uncertainty(-0.0001, 2.0),
+            ("0.0".into(), "2.0".into(), -1)
+        );
+        assert_eq!(relative_percent(0.052, 25.0), "0.21 %");
+        assert_eq!(relative_percent(1.0, 0.0), "-");
+    }
+}

@@ -1,0 +1,551 @@
+//! Reading one `[inputs.NAME]` table into an [`InputQuantity`]: a constant or a distribution,
+//! every quantity converted to SI, every parameter validated.
+
+use super::source::suggestion;
+use super::table::{Entry, Table, number_value, type_name};
+use crate::dist::{
+    Arcsine, BetaScaled, CurvilinearTrapezoid, Distribution, Exponential, GammaDist, LogNormal,
+    Normal, ParameterError, Rectangular, ScaledT, Trapezoidal, Triangular, TruncatedNormal,
+};
+use crate::error::InputError;
+use crate::model::{ChainInput, Domain};
+use crate::units::{Dimension, DisplayUnit, parse_quantity};
+use std::ops::Range;
+use toml::de::DeValue;
+
+/// How an input quantity is known.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Law {
+    /// Exactly known: the same value in every trial.
+    Constant(f64),
+    /// Known through a probability distribution.
+    Distributed(Distribution),
+}
+
+/// One input quantity of a study, in SI units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct InputQuantity {
+    /// Its name in the scenario.
+    pub name: String,
+    /// Constant or distribution.
+    pub law: Law,
+    /// Degrees of freedom of its standard uncertainty for the law of propagation: those of a
+    /// t or readings distribution, or a Type B value from the `dof` key; `None` means infinite.
+    pub dof: Option<f64>,
+    /// Its dimension, when known (chain inputs, or from the units written).
+    pub dimension: Option<Dimension>,
+    /// The unit the scenario wrote it in, used to show it.
+    pub shown_unit: DisplayUnit,
+    /// Free text from the `note` key.
+    pub note: Option<String>,
+    /// Where its table is in the file.
+    pub span: Range<usize>,
+}
+
+impl InputQuantity {
+    /// The estimate: the constant, or the expectation of the distribution.
+    pub fn estimate(&self) -> f64 {
+        match &self.law {
+            Law::Constant(v) => *v,
+            Law::Distributed(d) => d.mean(),
+        }
+    }
+
+    /// The standard deviation of its distribution (JCGM 101 view); 0 for a constant.
+    pub fn standard_deviation(&self) -> f64 {
+        match &self.law {
+            Law::Constant(_) => 0.0,
+            Law::Distributed(d) => d.standard_deviation(),
+        }
+    }
+
+    /// The standard uncertainty the law of propagation uses (JCGM 100): the distribution's
+    /// standard deviation, except for t and readings, where it is the scale s/sqrt(n) that goes
+    /// with their degrees of freedom (JCGM 100 4.2.3 and G.3).
+    pub fn gum_standard_uncertainty(&self) -> f64 {
+        match &self.law {
+            Law::Constant(_) => 0.0,
+            Law::Distributed(Distribution::T(t)) => t.scale(),
+            Law::Distributed(d) => d.standard_deviation(),
+        }
+    }
+
+    /// The distribution family name, or "constant".
+    pub fn family(&self) -> &'static str {
+        match &self.law {
+            Law::Constant(_) => "constant",
+            Law::Distributed(d) => d.family_name(),
+        }
+    }
+
+    /// Whether the quantity varies from trial to trial.
+    pub fn is_constant(&self) -> bool {
+        matches!(self.law, Law::Constant(_))
+    }
+}
+
+/// The kind of a distribution parameter.
+#[derive(Clone, Copy, PartialEq)]
+enum Param {
+    /// A quantity with the input's dimension ("2 mm").
+    Quantity,
+    /// A pure number (shape, alpha, beta, dof).
+    Pure,
+    /// An array of quantities (readings).
+    Quantities,
+}
+
+/// Families, their parameters and an example table line.
+const FAMILIES: &[(&str, &[(&str, Param)], &str)] = &[
+    (
+        "normal",
+        &[("mean", Param::Quantity), ("sd", Param::Quantity)],
+        "dist = \"normal\", mean = \"45 deg\", sd = \"0.1 deg\"",
+    ),
+    (
+        "rectangular",
+        &[("min", Param::Quantity), ("max", Param::Quantity)],
+        "dist = \"rectangular\", min = 0.9990, max = 0.9999",
+    ),
+    (
+        "triangular",
+        &[("min", Param::Quantity), ("max", Param::Quantity)],
+        "dist = \"triangular\", min = \"1.9 m\", max = \"2.1 m\"",
+    ),
+    (
+        "trapezoidal",
+        &[
+            ("min", Param::Quantity),
+            ("max", Param::Quantity),
+            ("beta", Param::Pure),
+        ],
+        "dist = \"trapezoidal\", min = \"0.9 mm\", max = \"1.1 mm\", beta = 0.5",
+    ),
+    (
+        "curvilinear-trapezoid",
+        &[
+            ("min", Param::Quantity),
+            ("max", Param::Quantity),
+            ("limit_spread", Param::Quantity),
+        ],
+        "dist = \"curvilinear-trapezoid\", min = \"0.9 mm\", max = \"1.1 mm\", limit_spread = \"0.02 mm\"",
+    ),
+    (
+        "arcsine",
+        &[("min", Param::Quantity), ("max", Param::Quantity)],
+        "dist = \"arcsine\", min = \"-2 urad\", max = \"2 urad\"",
+    ),
+    (
+        "t",
+        &[
+            ("mean", Param::Quantity),
+            ("scale", Param::Quantity),
+            ("dof", Param::Pure),
+        ],
+        "dist = \"t\", mean = \"1.25 mm\", scale = \"0.01 mm\", dof = 9",
+    ),
+    (
+        "readings",
+        &[("values", Param::Quantities)],
+        "dist = \"readings\", values = [\"1.251 mm\", \"1.248 mm\", \"1.255 mm\", \"1.250 mm\"]",
+    ),
+    (
+        "exponential",
+        &[("mean", Param::Quantity)],
+        "dist = \"exponential\", mean = \"2 nN\"",
+    ),
+    (
+        "gamma",
+        &[("shape", Param::Pure), ("scale", Param::Quantity)],
+        "dist = \"gamma\", shape = 3, scale = \"1 nN\"",
+    ),
+    (
+        "truncated-normal",
+        &[
+            ("mean", Param::Quantity),
+            ("sd", Param::Quantity),
+            ("min", Param::Quantity),
+            ("max", Param::Quantity),
+        ],
+        "dist = \"truncated-normal\", mean = 0.9995, sd = 0.0003, min = 0, max = 1",
+    ),
+    (
+        "beta",
+        &[
+            ("alpha", Param::Pure),
+            ("beta", Param::Pure),
+            ("min", Param::Quantity),
+            ("max", Param::Quantity),
+        ],
+        "dist = \"beta\", alpha = 8, beta = 2, min = 0.999, max = 1",
+    ),
+    (
+        "lognormal",
+        &[("mean", Param::Quantity), ("sd", Param::Quantity)],
+        "dist = \"lognormal\", mean = \"300 s\", sd = \"2 s\"",
+    ),
+];
+
+/// Other names accepted for a family (JCGM 101 Table 1 gives both).
+const ALIASES: &[(&str, &str)] = &[
+    ("gaussian", "normal"),
+    ("uniform", "rectangular"),
+    ("u-shaped", "arcsine"),
+    ("student-t", "t"),
+];
+
+/// The names of all families, for messages.
+pub fn family_names() -> Vec<&'static str> {
+    FAMILIES.iter().map(|f| f.0).collect()
+}
+
+/// The example line of a family, for messages and the starter file.
+pub fn family_example(name: &str) -> &'static str {
+    FAMILIES.iter().find(|f| f.0 == name).map_or("", |f| f.2)
+}
+
+/// What is known of the input's dimension while its parameters are read.
+struct UnitTracker<'e> {
+    expected: Option<Dimension>,
+    seen: Option<(Dimension, String)>,
+    shown: Option<DisplayUnit>,
+    example: &'e str,
+}
+
+impl UnitTracker<'_> {
+    /// Read a quantity value: a number (SI) or a string with a unit of the right dimension.
+    fn quantity(
+        &mut self,
+        v: &toml::Spanned<DeValue<'_>>,
+        path: &str,
+        src: &super::source::Source<'_>,
+    ) -> Result<f64, InputError> {
+        match v.get_ref() {
+            DeValue::String(s) => {
+                let q = parse_quantity(s).map_err(|e| {
+                    src.error(
+                        &v.span(),
+                        path,
+                        format!("cannot read {:?}: {e}", s.as_ref()),
+                        self.example,
+                    )
+                })?;
+                if let Some(unit) = &q.unit {
+                    let dim = unit.dimension;
+                    if let Some(expected) = self.expected
+                        && dim != expected
+                    {
+                        return Err(src.error(
+                            &v.span(),
+                            path,
+                            format!(
+                                "{:?} is {}, but this input is {} (SI unit {:?})",
+                                s.as_ref(),
+                                dim.kind(),
+                                expected.kind(),
+                                expected.si_symbol()
+                            ),
+                            format!(
+                                "{} = {}",
+                                path.rsplit('.').next().unwrap_or(path),
+                                expected.example()
+                            ),
+                        ));
+                    }
+                    if let Some((seen, text)) = &self.seen
+                        && *seen != dim
+                    {
+                        return Err(src.error(
+                            &v.span(),
+                            path,
+                            format!(
+                                "{:?} is {}, but another parameter of this input was given as {} ({text:?}); all parameters of one input share a dimension",
+                                s.as_ref(),
+                                dim.kind(),
+                                seen.kind()
+                            ),
+                            self.example,
+                        ));
+                    }
+                    self.seen.get_or_insert((dim, s.to_string()));
+                    self.shown.get_or_insert(DisplayUnit {
+                        symbol: unit.text.clone(),
+                        factor: unit.factor,
+                    });
+                }
+                Ok(q.si)
+            }
+            DeValue::Integer(_) | DeValue::Float(_) => number_value(v, path, src, self.example),
+            other => Err(src.error(
+                &v.span(),
+                path,
+                format!(
+                    "expected a number or a quantity string such as \"2 mm\", found {}",
+                    type_name(other)
+                ),
+                self.example,
+            )),
+        }
+    }
+}
+
+fn param_error(table: &Table<'_, '_>, e: ParameterError, example: &str) -> InputError {
+    match table.get(e.parameter) {
+        Some(entry) => entry.error(e.reason, example),
+        None => table.error(e.reason, example),
+    }
+}
+
+/// Read `[inputs.NAME]`. `chain_input` is the chain's description of this input, when the
+/// chain takes it (then its dimension and physical domain are enforced).
+pub fn read_input(
+    table: &Table<'_, '_>,
+    name: &str,
+    chain_input: Option<&ChainInput>,
+) -> Result<InputQuantity, InputError> {
+    let src = table.src;
+    let expected = chain_input.map(|c| c.dimension);
+    let generic_example = "[inputs.lever_arm] dist = \"normal\", mean = \"50 mm\", sd = \"0.02 mm\"   or   value = \"50 mm\"";
+    let note = match table.get("note") {
+        Some(e) => Some(
+            e.string("note = \"from the vendor's data sheet\"")?
+                .to_string(),
+        ),
+        None => None,
+    };
+    let value = table.get("value");
+    let dist = table.get("dist");
+    let mut units = UnitTracker {
+        expected,
+        seen: None,
+        shown: None,
+        example: generic_example,
+    };
+
+    let (law, dof) = match (value, dist) {
+        (Some(v), None) => {
+            table.check_keys(&["value", "note"], "value = \"50 mm\"")?;
+            let x = units.quantity(v.value, &v.path, src)?;
+            (Law::Constant(x), None)
+        }
+        (Some(v), Some(_)) => {
+            return Err(v.error(
+                "an input has either `value` (a constant) or `dist` (a distribution), not both",
+                generic_example,
+            ));
+        }
+        (None, None) => {
+            return Err(table.error(
+                format!("input `{name}` needs `dist` (a distribution) or `value` (a constant)"),
+                generic_example,
+            ));
+        }
+        (None, Some(d)) => {
+            let written = d.string("dist = \"normal\"")?;
+            let lower = written.to_ascii_lowercase();
+            let canonical = ALIASES
+                .iter()
+                .find(|a| a.0 == lower)
+                .map_or(lower.as_str(), |a| a.1);
+            let Some((family, params, example)) = FAMILIES.iter().find(|f| f.0 == canonical) else {
+                let mut names = family_names();
+                names.extend(ALIASES.iter().map(|a| a.0));
+                return Err(d.error(
+                    format!(
+                        "unknown distribution {written:?}{}; known: {}",
+                        suggestion(written, names.iter().copied()),
+                        family_names().join(", ")
+                    ),
+                    "dist = \"rectangular\"",
+                ));
+            };
+            units.example = example;
+            let mut allowed: Vec<&str> = vec!["dist", "note"];
+            allowed.extend(params.iter().map(|p| p.0));
+            let type_b_dof = !matches!(*family, "t" | "readings");
+            if type_b_dof {
+                allowed.push("dof");
+            }
+            table.check_keys(&allowed, example)?;
+            let mut q: Vec<f64> = Vec::new();
+            let mut readings: Vec<f64> = Vec::new();
+            for (pname, kind) in params.iter() {
+                let entry = table.get(pname).ok_or_else(|| {
+                    table.error(
+                        format!(
+                            "distribution {family:?} needs `{pname}` (its parameters: {})",
+                            params.iter().map(|p| p.0).collect::<Vec<_>>().join(", ")
+                        ),
+                        *example,
+                    )
+                })?;
+                match kind {
+                    Param::Quantity => q.push(units.quantity(entry.value, &entry.path, src)?),
+                    Param::Pure => q.push(entry.number(example)?),
+                    Param::Quantities => {
+                        let items = entry.array(example)?;
+                        for item in items {
+                            readings.push(units.quantity(item, &entry.path, src)?);
+                        }
+                    }
+                }
+            }
+            let built = match *family {
+                "normal" => Normal::new(q[0], q[1]).map(Distribution::Normal),
+                "rectangular" => Rectangular::new(q[0], q[1]).map(Distribution::Rectangular),
+                "triangular" => Triangular::new(q[0], q[1]).map(Distribution::Triangular),
+                "trapezoidal" => Trapezoidal::new(q[0], q[1], q[2]).map(Distribution::Trapezoidal),
+                "curvilinear-trapezoid" => CurvilinearTrapezoid::new(q[0], q[1], q[2])
+                    .map(Distribution::CurvilinearTrapezoid),
+                "arcsine" => Arcsine::new(q[0], q[1]).map(Distribution::Arcsine),
+                "t" => ScaledT::new(q[0], q[1], q[2]).map(Distribution::T),
+                "readings" => ScaledT::from_readings(&readings).map(Distribution::T),
+                "exponential" => Exponential::new(q[0]).map(Distribution::Exponential),
+                "gamma" => GammaDist::new(q[0], q[1]).map(Distribution::Gamma),
+                "truncated-normal" => {
+                    TruncatedNormal::new(q[0], q[1], q[2], q[3]).map(Distribution::TruncatedNormal)
+                }
+                "beta" => BetaScaled::new(q[0], q[1], q[2], q[3]).map(Distribution::Beta),
+                "lognormal" => LogNormal::new(q[0], q[1]).map(Distribution::LogNormal),
+                other => unreachable!("family table and match disagree on {other}"),
+            };
+            let dist = built.map_err(|e| param_error(table, e, example))?;
+            let dof = match (dist.degrees_of_freedom(), table.get("dof")) {
+                (Some(nu), _) => Some(nu),
+                (None, Some(e)) => Some(type_b_degrees_of_freedom(&e)?),
+                (None, None) => None,
+            };
+            (Law::Distributed(dist), dof)
+        }
+    };
+
+    let dimension = expected.or(units.seen.as_ref().map(|s| s.0));
+    let shown_unit = match (&units.shown, dimension) {
+        (Some(u), _) if !u.symbol.is_empty() => u.clone(),
+        (_, Some(d)) => DisplayUnit::si(d),
+        _ => DisplayUnit::si(Dimension::NONE),
+    };
+    let quantity = InputQuantity {
+        name: name.to_string(),
+        law,
+        dof,
+        dimension,
+        shown_unit,
+        note,
+        span: table.span.clone(),
+    };
+    if let Some(ci) = chain_input {
+        check_domain(table, &quantity, ci)?;
+    }
+    Ok(quantity)
+}
+
+/// A Type B `dof` key: a positive number, or "inf".
+fn type_b_degrees_of_freedom(e: &Entry<'_, '_>) -> Result<f64, InputError> {
+    let example = "dof = 12   (Type B: nu ~ (1/2)(Delta u / u)^-2, JCGM 100 G.4.2)";
+    if let DeValue::String(s) = e.value.get_ref()
+        && matches!(s.as_ref(), "inf" | "infinite" | "infinity")
+    {
+        return Ok(f64::INFINITY);
+    }
+    let v = match e.value.get_ref() {
+        DeValue::Float(f) if f.as_str().contains("inf") => f64::INFINITY,
+        _ => e.number(example)?,
+    };
+    if v > 0.0 {
+        Ok(v)
+    } else {
+        Err(e.error(
+            format!("degrees of freedom must be positive (got {v})"),
+            example,
+        ))
+    }
+}
+
+/// Probability that a distribution puts outside a physical range and still be accepted: far
+/// below what any run of up to 10^9 trials could draw (common practice: refuse rather than
+/// clamp).
+pub const OUTSIDE_TOLERANCE: f64 = 1e-12;
+
+fn check_domain(
+    table: &Table<'_, '_>,
+    q: &InputQuantity,
+    ci: &ChainInput,
+) -> Result<(), InputError> {
+    let name = ci.name;
+    let (lo, hi, what, example): (f64, f64, &str, &str) = match ci.domain {
+        Domain::Any => return Ok(()),
+        Domain::Positive => (0.0, f64::INFINITY, "greater than 0", ""),
+        Domain::NonNegative => (0.0, f64::INFINITY, "0 or more", ""),
+        Domain::UnitInterval => (
+            0.0,
+            1.0,
+            "a fraction in [0, 1]",
+            "dist = \"truncated-normal\", mean = 0.9995, sd = 0.0002, min = 0, max = 1",
+        ),
+        Domain::Incidence => (
+            -std::f64::consts::FRAC_PI_2,
+            std::f64::consts::FRAC_PI_2,
+            "an angle of incidence strictly between -90 deg and 90 deg",
+            "dist = \"normal\", mean = \"10 deg\", sd = \"0.2 deg\"",
+        ),
+        Domain::QualityFactor => (
+            0.5,
+            f64::INFINITY,
+            "above 1/2 (an oscillation that rings)",
+            "value = 2000",
+        ),
+        Domain::Count => {
+            return match q.law {
+                Law::Constant(v) if v.fract() == 0.0 && (1.0..=10_000.0).contains(&v) => Ok(()),
+                _ => Err(table.error(
+                    format!("`{name}` must be a constant whole number from 1 to 10000"),
+                    format!("[inputs.{name}] value = 14"),
+                )),
+            };
+        }
+    };
+    let example = if example.is_empty() {
+        format!("[inputs.{name}] value = {}", ci.dimension.example())
+    } else {
+        format!("[inputs.{name}] {example}")
+    };
+    let strict_lo = matches!(
+        ci.domain,
+        Domain::Positive | Domain::Incidence | Domain::QualityFactor
+    );
+    let strict_hi = matches!(ci.domain, Domain::Incidence);
+    match &q.law {
+        Law::Constant(v) => {
+            let below = if strict_lo { *v <= lo } else { *v < lo };
+            let above = if strict_hi { *v >= hi } else { *v > hi };
+            if below || above {
+                return Err(table.error(
+                    format!("`{name}` must be {what} (got {v} in SI units)"),
+                    example,
+                ));
+            }
+        }
+        Law::Distributed(d) => {
+            let below = if lo.is_finite() { d.cdf(lo) } else { 0.0 };
+            let above = if hi.is_finite() { 1.0 - d.cdf(hi) } else { 0.0 };
+            if below > OUTSIDE_TOLERANCE || above > OUTSIDE_TOLERANCE {
+                let (side, p) = if below > OUTSIDE_TOLERANCE {
+                    ("below", below)
+                } else {
+                    ("above", above)
+                };
+                let limit = if below > OUTSIDE_TOLERANCE { lo } else { hi };
+                return Err(table.error(
+                    format!(
+                        "`{name}` must be {what}, but this {} distribution puts probability {p:.2e} {side} {limit} (SI); \
+                         physically impossible values are refused, not clamped: use a bounded distribution or narrow it",
+                        d.family_name()
+                    ),
+                    example,
+                ));
+            }
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,772 @@
+//! The scenario file (TOML): parse, validate, convert every quantity to SI, and compile the
+//! model, producing a [`Study`] the engine can run. Every error names the file, line, column and
+//! key and shows a valid example; nothing is clamped silently.
+
+mod inputs;
+mod source;
+mod table;
+
+pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
+pub use source::{Source, edit_distance, nearest};
+
+use crate::error::InputError;
+use crate::model::formula::{self, Func, RESERVED};
+use crate::model::{ArgSource, BoundChain, ChainKind, FormulaStep, Model};
+use crate::physics::beam::{aperture_radius_for_fraction, gaussian_aperture_fraction};
+use crate::units::{Dimension, DisplayUnit, parse_quantity, parse_unit};
+use source::suggestion;
+use std::ops::Range;
+use std::path::Path;
+use table::{Entry, Table};
+use toml::de::{DeTable, DeValue};
+
+/// Default number of Monte Carlo trials M (JCGM 101 7.2.2 recommends 10^6 for a 95 % interval).
+pub const DEFAULT_TRIALS: u64 = 1_000_000;
+/// Most trials a scenario may ask for.
+pub const MAX_TRIALS: u64 = 10_000_000_000;
+/// Fewest trials a scenario may ask for.
+pub const MIN_TRIALS: u64 = 100;
+/// Largest scenario file read, far above any real one (a guard against feeding in a wrong file).
+pub const MAX_SCENARIO_BYTES: u64 = 4 * 1024 * 1024;
+/// Most input quantities in one scenario.
+pub const MAX_INPUTS: usize = 1000;
+
+/// A measurand of a study.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Measurand {
+    /// Its name.
+    pub name: String,
+    /// Its dimension, when known (chain measurands).
+    pub dimension: Option<Dimension>,
+    /// The unit the scenario asked to show it in (`unit = "mg"`), if any.
+    pub unit: Option<DisplayUnit>,
+    /// The formula text, for formula measurands.
+    pub formula: Option<String>,
+    /// What it is.
+    pub description: String,
+}
+
+/// A validated scenario, ready to run.
+#[derive(Clone, Debug)]
+pub struct Study {
+    /// The scenario file, as named in messages.
+    pub file: String,
+    /// Its title.
+    pub title: String,
+    /// Number of Monte Carlo trials M.
+    pub trials: u64,
+    /// Seed of the random streams.
+    pub seed: u64,
+    /// Coverage probability p.
+    pub coverage: f64,
+    /// Significant digits `ndig` for the numerical tolerance (JCGM 101 7.9.2).
+    pub digits: u32,
+    /// Whether the study involves a laser (the report then carries the laser caution).
+    pub laser: bool,
+    /// Input quantities, in file order (their column order).
+    pub inputs: Vec<InputQuantity>,
+    /// Measurands in report order: chain measurands first, then formulas in file order.
+    pub measurands: Vec<Measurand>,
+    /// The built-in chain, if any.
+    pub chain: Option<ChainKind>,
+    /// The compiled model.
+    pub model: Model,
+    /// Things worth knowing that do not stop the run.
+    pub warnings: Vec<String>,
+}
+
+const TOP_KEYS: &[&str] = &[
+    "title",
+    "trials",
+    "seed",
+    "coverage",
+    "digits",
+    "laser",
+    "model",
+    "inputs",
+    "measurands",
+];
+
+const TOP_EXAMPLE: &str = "title = \"...\", trials = 1_000_000, seed = 7, coverage = 0.95, [model], [inputs.NAME], [measurands.NAME]";
+
+/// Read and validate a scenario file.
+pub fn load_file(path: &Path) -> Result<Study, InputError> {
+    let shown = path.display().to_string();
+    let meta = std::fs::metadata(path).map_err(|e| {
+        InputError::file(&shown, format!("cannot read the scenario file: {e}"))
+            .with_example("radforce run data/torsion-vacuum-25w.toml")
+    })?;
+    if meta.is_dir() {
+        return Err(
+            InputError::file(&shown, "is a directory, not a scenario file")
+                .with_example("radforce run data/torsion-vacuum-25w.toml"),
+        );
+    }
+    if meta.len() > MAX_SCENARIO_BYTES {
+        return Err(InputError::file(
+            &shown,
+            format!(
+                "is {} bytes, far larger than any scenario (limit {MAX_SCENARIO_BYTES} bytes); is it the right file?",
+                meta.len()
+            ),
+        ));
+    }
+    let bytes = std::fs::read(path)
+        .map_err(|e| InputError::file(&shown, format!("cannot read the scenario file: {e}")))?;
+    let text = String::from_utf8(bytes).map_err(|e| {
+        let offset = e.utf8_error().valid_up_to();
+        InputError::file(
+            &shown,
+            format!("is not UTF-8 text (invalid byte at offset {offset}); save it as UTF-8"),
+        )
+    })?;
+    load_str(&text, &shown)
+}
+
+/// Read and validate scenario text; `file` names it in messages.
+pub fn load_str(text: &str, file: &str) -> Result<Study, InputError> {
+    let src = Source { file, text };
+    let doc = DeTable::parse(text).map_err(|e| {
+        let span = e.span().unwrap_or(0..0);
+        let message = e.message().trim_end_matches('\n').to_string();
+        src.error(
+            &span,
+            "",
+            format!("TOML syntax: {message}"),
+            "key = \"value\"   or   [inputs.name]",
+        )
+    })?;
+    let top = Table {
+        src: &src,
+        path: String::new(),
+        map: doc.get_ref(),
+        span: 0..0,
+    };
+    Loader { src: &src, top }.load()
+}
+
+struct Loader<'a, 'i> {
+    src: &'a Source<'a>,
+    top: Table<'a, 'i>,
+}
+
+/// Whether a name can be used in formulas.
+fn is_identifier(name: &str) -> bool {
+    let mut chars = name.chars();
+    matches!(chars.next(), Some(c) if c.is_ascii_alphabetic() || c == '_')
+        && chars.all(|c| c.is_ascii_alphanumeric() || c == '_')
+}
+
+impl<'a, 'i> Loader<'a, 'i> {
+    fn load(&self) -> Result<Study, InputError> {
+        let top = &self.top;
+        top.check_keys(TOP_KEYS, TOP_EXAMPLE)?;
+        let title = match top.get("title") {
+            Some(e) => e
+                .string("title = \"25 W fibre laser on a vacuum torsion balance\"")?
+                .to_string(),
+            None => Path::new(self.src.file).file_stem().map_or_else(
+                || "untitled".to_string(),
+                |s| s.to_string_lossy().into_owned(),
+            ),
+        };
+        let coverage = self.coverage()?;
+        let trials = match top.get("trials") {
+            Some(e) => {
+                let m = e.whole(MIN_TRIALS, MAX_TRIALS, "trials = 1_000_000")?;
+                check_trials_for_coverage(&e, m, coverage)?;
+                m
+            }
+            None => DEFAULT_TRIALS,
+        };
+        let seed = match top.get("seed") {
+            Some(e) => e.whole(0, i64::MAX as u64, "seed = 7")?,
+            None => 1,
+        };
+        let digits = match top.get("digits") {
+            Some(e) => e.whole(1, 6, "digits = 2")? as u32,
+            None => 2,
+        };
+        let laser = match top.get("laser") {
+            Some(e) => e.boolean("laser = false   (for a study with no laser in it)")?,
+            None => true,
+        };
+
+        let chain = self.chain()?;
+        let mut warnings = Vec::new();
+        if let Some(e) = top.get("trials") {
+            let m = e.whole(MIN_TRIALS, MAX_TRIALS, "")?;
+            let j = (100.0 / (1.0 - coverage)).ceil() as u64;
+            if m < j {
+                warnings.push(format!(
+                    "trials = {m} is below 100/(1 - p) = {j} (JCGM 101 7.9.2): the coverage interval ends will be poorly determined"
+                ));
+            }
+        }
+
+        let inputs = self.inputs(chain.as_ref().map(|c| c.0))?;
+        let (measurands, model) = self.model(chain.clone(), &inputs)?;
+        if let Some((kind, _)) = chain.clone() {
+            self.chain_cross_checks(kind, &inputs, &mut warnings)?;
+        }
+        Ok(Study {
+            file: self.src.file.to_string(),
+            title,
+            trials,
+            seed,
+            coverage,
+            digits,
+            laser,
+            inputs,
+            measurands,
+            chain: chain.map(|c| c.0),
+            model,
+            warnings,
+        })
+    }
+
+    fn coverage(&self) -> Result<f64, InputError> {
+        let Some(e) = self.top.get("coverage") else {
+            return Ok(0.95);
+        };
+        let example = "coverage = 0.95   (or \"95 %\")";
+        let p = match e.value.get_ref() {
+            DeValue::String(s) => {
+                let q = parse_quantity(s).map_err(|err| {
+                    e.error(format!("cannot read {:?}: {err}", s.as_ref()), example)
+                })?;
+                match q.unit {
+                    Some(u) if u.dimension != Dimension::NONE => {
+                        return Err(e.error("a coverage probability is a pure number", example));
+                    }
+                    _ => q.si,
+                }
+            }
+            _ => e.number(example)?,
+        };
+        if !(p > 0.0 && p < 1.0) {
+            return Err(e.error(
+                format!("the coverage probability must lie strictly between 0 and 1 (got {p})"),
+                example,
+            ));
+        }
+        Ok(p)
+    }
+
+    fn chain(&self) -> Result<Option<(ChainKind, Range<usize>)>, InputError> {
+        let Some(e) = self.top.get("model") else {
+            return Ok(None);
+        };
+        let t = e.table("[model]\nchain = \"torsion-power\"")?;
+        if let Some(f) = t.get("formula") {
+            return Err(f.error(
+                "formulas are written as measurands: [measurands.NAME] formula = \"...\"",
+                "[measurands.dm]\nformula = \"m1 - m2\"\nunit = \"mg\"",
+            ));
+        }
+        t.check_keys(&["chain"], "chain = \"torsion-power\"")?;
+        let c = t.require("chain", "chain = \"torsion-power\"")?;
+        let name = c.string("chain = \"torsion-power\"")?;
+        let names: Vec<&str> = ChainKind::ALL.iter().map(|k| k.spec().name).collect();
+        match ChainKind::from_name(name) {
+            Some(kind) => Ok(Some((kind, c.span()))),
+            None => Err(c.error(
+                format!(
+                    "unknown chain {name:?}{}; built-in chains: {}",
+                    suggestion(name, names.iter().copied()),
+                    names.join(", ")
+                ),
+                "chain = \"torsion-power\"",
+            )),
+        }
+    }
+
+    fn inputs(&self, chain: Option<ChainKind>) -> Result<Vec<InputQuantity>, InputError> {
+        let Some(e) = self.top.get("inputs") else {
+            return Ok(Vec::new());
+        };
+        let t =
+            e.table("[inputs.reflectance]\ndist = \"rectangular\"\nmin = 0.999\nmax = 0.9999")?;
+        let entries = t.entries();
+        if entries.len() > MAX_INPUTS {
+            return Err(t.error(
+                format!(
+                    "{} input quantities, more than the limit of {MAX_INPUTS}",
+                    entries.len()
+                ),
+                "",
+            ));
+        }
+        let mut out = Vec::with_capacity(entries.len());
+        for entry in entries {
+            self.check_name(&entry, "input")?;
+            let table = entry.table(&format!("[inputs.{}]\nvalue = 1.0", entry.key))?;
+            let chain_input =
+                chain.and_then(|k| k.spec().inputs.iter().find(|i| i.name == entry.key));
+            out.push(inputs::read_input(&table, entry.key, chain_input)?);
+        }
+        Ok(out)
+    }
+
+    fn check_name(&self, entry: &Entry<'_, '_>, what: &str) -> Result<(), InputError> {
+        let name = entry.key;
+        let example = format!("[{what}s.beam_radius]");
+        if !is_identifier(name) {
+            return Err(self.src.error(
+                &entry.key_span,
+                &entry.path,
+                format!("{what} name `{name}` cannot be used in formulas: use letters, digits and `_`, starting with a letter"),
+                example,
+            ));
+        }
+        if RESERVED.contains(&name) || Func::from_name(name).is_some() {
+            return Err(self.src.error(
+                &entry.key_span,
+                &entry.path,
+                format!("`{name}` is reserved in formulas (a constant or function); choose another {what} name"),
+                example,
+            ));
+        }
+        Ok(())
+    }
+
+    fn model(
+        &self,
+        chain: Option<(ChainKind, Range<usize>)>,
+        inputs: &[InputQuantity],
+    ) -> Result<(Vec<Measurand>, Model), InputError> {
+        let n_in = inputs.len();
+        let mut measurands: Vec<Measurand> = Vec::new();
+        let mut bound = None;
+        let mut used = vec![false; n_in];
+
+        if let Some((kind, span)) = &chain {
+            let spec = kind.spec();
+            let mut args = Vec::new();
+            let mut missing = Vec::new();
+            for ci in spec.inputs {
+                match inputs.iter().position(|q| q.name == ci.name) {
+                    Some(i) => {
+                        used[i] = true;
+                        args.push(ArgSource::Column(i));
+                    }
+                    None => match ci.default {
+                        Some(v) => args.push(ArgSource::Fixed(v)),
+                        None => {
+                            missing.push(ci);
+                            args.push(ArgSource::Fixed(f64::NAN));
+                        }
+                    },
+                }
+            }
+            if !missing.is_empty() {
+                let list: Vec<String> = missing
+                    .iter()
+                    .map(|ci| {
+                        format!(
+                            "  {} ({}; {})",
+                            ci.name,
+                            ci.description,
+                            ci.dimension.kind()
+                        )
+                    })
+                    .collect();
+                return Err(self.src.error(
+                    span,
+                    "model.chain",
+                    format!(
+                        "chain {:?} needs these inputs, which the scenario does not define:\n{}",
+                        spec.name,
+                        list.join("\n")
+                    ),
+                    format!(
+                        "[inputs.{}]\nvalue = {}",
+                        missing[0].name,
+                        missing[0].dimension.example()
+                    ),
+                ));
+            }
+            bound = Some(BoundChain {
+                kind: *kind,
+                args,
+                first_output: n_in,
+            });
+            for m in spec.measurands {
+                measurands.push(Measurand {
+                    name: m.name.to_string(),
+                    dimension: Some(m.dimension),
+                    unit: None,
+                    formula: None,
+                    description: m.description.to_string(),
+                });
+            }
+        }
+
+        // Formula measurands and display units.
+        struct Pending<'x, 'y> {
+            index: usize,
+            entry: Entry<'x, 'y>,
+            text: String,
+            value_span: Range<usize>,
+        }
+        let mut pending: Vec<Pending<'a, 'i>> = Vec::new();
+        if let Some(e) = self.top.get("measurands") {
+            let t = e.table("[measurands.dm]\nformula = \"m1 - m2\"")?;
+            for entry in t.entries() {
+                self.check_name(&entry, "measurand")?;
+                let mt = entry.table("[measurands.dm]\nformula = \"m1 - m2\"\nunit = \"mg\"")?;
+                mt.check_keys(
+                    &["formula", "unit", "note"],
+                    "formula = \"m1 - m2\", unit = \"mg\"",
+                )?;
+                if inputs.iter().any(|q| q.name == entry.key) {
+                    return Err(self.src.error(
+                        &entry.key_span,
+                        &entry.path,
+                        format!("`{}` is already an input quantity; a measurand needs a name of its own", entry.key),
+                        "[measurands.power_corrected]",
+                    ));
+                }
+                let note = match mt.get("note") {
+                    Some(n) => Some(n.string("note = \"...\"")?.to_string()),
+                    None => None,
+                };
+                let existing = measurands.iter().position(|m| m.name == entry.key);
+                let index = match existing {
+                    Some(i) => {
+                        if let Some(f) = mt.get("formula") {
+                            return Err(f.error(
+                                format!(
+                                    "`{}` is computed by the chain {:?}; remove `formula` (only `unit` and `note` may be set for it) or give the formula another name",
+                                    entry.key,
+                                    chain.as_ref().map_or("", |c| c.0.spec().name)
+                                ),
+                                format!("[measurands.{}]\nunit = \"mW\"", entry.key),
+                            ));
+                        }
+                        i
+                    }
+                    None => {
+                        let f = mt.require("formula", "formula = \"(m1 + m2) / 2\"")?;
+                        let text = f.string("formula = \"(m1 + m2) / 2\"")?.to_string();
+                        measurands.push(Measurand {
+                            name: entry.key.to_string(),
+                            dimension: None,
+                            unit: None,
+                            formula: Some(text.clone()),
+                            description: note.clone().unwrap_or_default(),
+                        });
+                        let index = measurands.len() - 1;
+                        pending.push(Pending {
+                            index,
+                            value_span: f.span(),
+                            entry: f,
+                            text,
+                        });
+                        index
+                    }
+                };
+                if let Some(n) = note {
+                    measurands[index].description = n;
+                }
+                if let Some(u) = mt.get("unit") {
+                    let text = u.string("unit = \"mg\"")?;
+                    let unit = parse_unit(text).map_err(|err| {
+                        u.error(format!("cannot read unit {text:?}: {err}"), "unit = \"mg\"")
+                    })?;
+                    if let Some(dim) = measurands[index].dimension
+                        && dim != unit.dimension
+                    {
+                        return Err(u.error(
+                            format!(
+                                "`{}` is {}; {text:?} is {}",
+                                entry.key,
+                                dim.kind(),
+                                unit.dimension.kind()
+                            ),
+                            format!("unit = \"{}\"", dim.si_symbol()),
+                        ));
+                    }
+                    measurands[index].unit = Some(DisplayUnit {
+                        symbol: unit.text.clone(),
+                        factor: unit.factor,
+                    });
+                }
+            }
+        }
+        if measurands.is_empty() {
+            return Err(self.top.error(
+                "the scenario defines no measurand: name a built-in chain under [model] or write a formula under [measurands.NAME]",
+                "[model]\nchain = \"torsion-power\"   or   [measurands.y]\nformula = \"x1 + x2\"",
+            ));
+        }
+
+        // Compile formulas; collect dependencies between formula measurands.
+        let names_in: Vec<&str> = inputs.iter().map(|q| q.name.as_str()).collect();
+        let names_m: Vec<String> = measurands.iter().map(|m| m.name.clone()).collect();
+        let mut compiled: Vec<(usize, formula::Program, Vec<formula::Reference>)> = Vec::new();
+        for p in &pending {
+            let own = &measurands[p.index].name;
+            let resolve = |name: &str| -> Result<usize, String> {
+                if let Some(i) = names_in.iter().position(|n| *n == name) {
+                    return Ok(i);
+                }
+                if let Some(m) = names_m.iter().position(|n| n == name) {
+                    if n_in + m == n_in + p.index {
+                        return Err(format!("the formula of `{own}` refers to itself"));
+                    }
+                    return Ok(n_in + m);
+                }
+                let all = names_in
+                    .iter()
+                    .copied()
+                    .chain(names_m.iter().map(String::as_str));
+                Err(format!(
+                    "unknown name `{name}`{}: a formula may use input quantities, measurands, `pi` and functions",
+                    suggestion(name, all)
+                ))
+            };
+            let parsed = formula::parse(&p.text)
+                .map_err(|e| self.formula_error(p.entry.clone(), &p.value_span, &p.text, e))?;
+            let (program, refs) = formula::compile(&parsed, &resolve)
+                .map_err(|e| self.formula_error(p.entry.clone(), &p.value_span, &p.text, e))?;
+            for r in &refs {
+                if r.column < n_in {
+                    used[r.column] = true;
+                }
+            }
+            compiled.push((p.index, program, refs));
+        }
+
+        // Order formula steps so each follows what it uses; refuse cycles.
+        let order = self.order_formulas(
+            &compiled,
+            &pending
+                .iter()
+                .map(|p| (p.entry.clone(), p.value_span.clone(), p.text.clone()))
+                .collect::<Vec<_>>(),
+            n_in,
+            &measurands,
+        )?;
+        let steps: Vec<FormulaStep> = order
+            .into_iter()
+            .map(|k| FormulaStep {
+                column: n_in + compiled[k].0,
+                program: compiled[k].1.clone(),
+            })
+            .collect();
+
+        // Inputs nobody uses are almost always typos.
+        if let Some(i) = used.iter().position(|u| !u) {
+            let q = &inputs[i];
+            let (hint, takes) = match &chain {
+                Some((kind, _)) => {
+                    let spec = kind.spec();
+                    let names: Vec<&str> = spec.inputs.iter().map(|c| c.name).collect();
+                    (
+                        suggestion(&q.name, names.iter().copied()),
+                        format!(
+                            " and is not an input of chain {:?} (it takes: {})",
+                            spec.name,
+                            names.join(", ")
+                        ),
+                    )
+                }
+                None => (String::new(), String::new()),
+            };
+            return Err(self.src.error(
+                &q.span,
+                &format!("inputs.{}", q.name),
+                format!("input `{}` is used by no formula{takes}{hint}", q.name),
+                "remove it, rename it, or use it in a [measurands.NAME] formula",
+            ));
+        }
+
+        Ok((
+            measurands,
+            Model {
+                inputs: n_in,
+                measurands: names_m.len(),
+                chain: bound,
+                steps,
+            },
+        ))
+    }
+
+    fn order_formulas(
+        &self,
+        compiled: &[(usize, formula::Program, Vec<formula::Reference>)],
+        texts: &[(Entry<'a, 'i>, Range<usize>, String)],
+        n_in: usize,
+        measurands: &[Measurand],
+    ) -> Result<Vec<usize>, InputError> {
+        // Map measurand index -> compiled position.
+        let pos_of = |m: usize| compiled.iter().position(|c| c.0 == m);
+        let mut state = vec![0u8; compiled.len()]; // 0 new, 1 on path, 2 done
+        let mut order = Vec::new();
+        fn visit(
+            k: usize,
+            compiled: &[(usize, formula::Program, Vec<formula::Reference>)],
+            pos_of: &dyn Fn(usize) -> Option<usize>,
+            n_in: usize,
+            state: &mut [u8],
+            order: &mut Vec<usize>,
+            path: &mut Vec<usize>,
+        ) -> Result<(), (usize, usize, Vec<usize>)> {
+            state[k] = 1;
+            path.push(k);
+            for (ri, r) in compiled[k].2.iter().enumerate() {
+                if r.column < n_in {
+                    continue;
+                }
+                let Some(dep) = pos_of(r.column - n_in) else {
+                    continue;
+                };
+                match state[dep] {
+                    1 => {
+                        let start = path.iter().position(|p| *p == dep).unwrap_or(0);
+                        let mut cycle = path[start..].to_vec();
+                        cycle.push(dep);
+                        return Err((k, ri, cycle));
+                    }
+                    0 => visit(dep, compiled, pos_of, n_in, state, order, path)?,
+                    _ => {}
+                }
+            }
+            path.pop();
+            state[k] = 2;
+            order.push(k);
+            Ok(())
+        }
+        for k in 0..compiled.len() {
+            if state[k] == 0 {
+                let mut path = Vec::new();
+                if let Err((at, ri, cycle)) = visit(
+                    k, compiled, &pos_of, n_in, &mut state, &mut order, &mut path,
+                ) {
+                    let names: Vec<&str> = cycle
+                        .iter()
+                        .map(|c| measurands[compiled[*c].0].name.as_str())
+                        .collect();
+                    let r = &compiled[at].2[ri];
+                    let e = formula::FormulaError {
+                        position: r.position,
+                        length: r.length,
+                        message: format!(
+                            "formulas refer to each other in a cycle: {}",
+                            names.join(" -> ")
+                        ),
+                    };
+                    let (entry, span, text) = &texts[at];
+                    return Err(self.formula_error(entry.clone(), span, text, e));
+                }
+            }
+        }
+        Ok(order)
+    }
+
+    /// Turn a formula error into a file error that marks the column inside the formula.
+    fn formula_error(
+        &self,
+        entry: Entry<'_, '_>,
+        span: &Range<usize>,
+        text: &str,
+        e: formula::FormulaError,
+    ) -> InputError {
+        let raw = &self.src.text[span.clone()];
+        let open = if raw.starts_with("\"\"\"") || raw.starts_with("'''") {
+            3
+        } else {
+            1
+        };
+        let inner_start = span.start + open;
+        let inner = self.src.text.get(inner_start..).unwrap_or("");
+        let file_span = if inner.starts_with(text) {
+            let byte = |chars: usize| {
+                text.char_indices()
+                    .nth(chars)
+                    .map_or(text.len(), |(b, _)| b)
+            };
+            let a = inner_start + byte(e.position);
+            let b = inner_start + byte(e.position + e.length);
+            a..b.max(a + 1)
+        } else {
+            span.clone()
+        };
+        self.src.error(
+            &file_span,
+            &entry.path,
+            format!(
+                "in formula {text:?}, at character {}: {}",
+                e.position + 1,
+                e.message
+            ),
+            "formula = \"(mRc + dmRc) * (1 + (rho_a - rho_a0) * (1/rho_W - 1/rho_R)) - m_nom\"",
+        )
+    }
+
+    fn chain_cross_checks(
+        &self,
+        kind: ChainKind,
+        inputs: &[InputQuantity],
+        warnings: &mut Vec<String>,
+    ) -> Result<(), InputError> {
+        let find = |n: &str| inputs.iter().find(|q| q.name == n);
+        let upper = |n: &str| -> f64 {
+            match find(n).map(|q| &q.law) {
+                Some(Law::Constant(v)) => *v,
+                Some(Law::Distributed(d)) => d.quantile(1.0 - OUTSIDE_TOLERANCE),
+                None => 0.0,
+            }
+        };
+        let spec = kind.spec();
+        if spec.input_index("reflectance").is_some() {
+            let (r, t, rd) = (
+                upper("reflectance"),
+                upper("transmittance"),
+                upper("diffuse_reflectance"),
+            );
+            if r + t + rd > 1.0 + 1e-12 {
+                let q = find("reflectance")
+                    .or(find("transmittance"))
+                    .or(find("diffuse_reflectance"));
+                let span = q.map_or(0..0, |q| q.span.clone());
+                return Err(self.src.error(
+                    &span,
+                    "inputs.reflectance",
+                    format!(
+                        "reflectance + transmittance + diffuse_reflectance can exceed 1 (their upper ends are {r} + {t} + {rd} = {}), which would make the absorptance negative",
+                        r + t + rd
+                    ),
+                    "reflectance in [0.9990, 0.9995] with transmittance = 1e-4",
+                ));
+            }
+        }
+        if let (Some(a), Some(w)) = (find("mirror_radius"), find("beam_radius")) {
+            let eta = gaussian_aperture_fraction(a.estimate(), w.estimate());
+            if eta < 0.99 {
+                warnings.push(format!(
+                    "only {:.2} % of the beam falls on the mirror (mirror_radius {:.4} mm, beam_radius {:.4} mm): the chain corrects for the clipped fraction eta = 1 - exp(-2 a^2 / w^2), but light diffracted at the mirror edge is not modelled; a mirror radius of {:.3} mm or more catches 99 %",
+                    100.0 * eta,
+                    a.estimate() * 1e3,
+                    w.estimate() * 1e3,
+                    aperture_radius_for_fraction(0.99, w.estimate()) * 1e3
+                ));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// JCGM 101 7.7: with q = floor(pM + 1/2), a coverage interval needs M - q >= 1 trials outside it.
+fn check_trials_for_coverage(e: &Entry<'_, '_>, m: u64, p: f64) -> Result<(), InputError> {
+    let q = (p * m as f64 + 0.5).floor() as u64;
+    if m <= q {
+        let need = (1.0 / (1.0 - p)).ceil() as u64 * 100;
+        return Err(e.error(
+            format!("{m} trials leave no trial outside a {p} coverage interval (JCGM 101 7.7); use at least {need}"),
+            format!("trials = {}", need.max(DEFAULT_TRIALS)),
+        ));
+    }
+    Ok(())
+}
