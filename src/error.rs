@@ -24,7 +24,7 @@ pub struct InputError {
     /// The file (or "command line").
     pub file: String,
     /// Where in the file, when known.
-    pub location: Option<Location>,
+    pub location: Option<Box<Location>>,
     /// The key, as a dotted path (`inputs.reflectance.max`).
     pub key: Option<String>,
     /// What is wrong.

@@ -28,7 +28,7 @@ pub fn q_index(m: usize, p: f64) -> usize {
 /// r of JCGM 101 7.7.2 (1-based) for the probabilistically symmetric interval.
 pub fn symmetric_r(m: usize, q: usize) -> usize {
     let outside = m - q;
-    if outside % 2 == 0 {
+    if outside.is_multiple_of(2) {
         outside / 2
     } else {
         outside.div_ceil(2)

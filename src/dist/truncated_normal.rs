@@ -41,7 +41,7 @@ impl TruncatedNormal {
         } else {
             std_normal_cdf(beta) - std_normal_cdf(alpha)
         };
-        if !(mass > 1e-300) {
+        if mass.is_nan() || mass <= 1e-300 {
             return Err(invalid(
                 "min",
                 format!(

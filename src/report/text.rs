@@ -22,7 +22,7 @@ pub fn grouped(n: u64) -> String {
     let s = n.to_string();
     let mut out = String::new();
     for (i, c) in s.chars().enumerate() {
-        if i > 0 && (s.len() - i) % 3 == 0 {
+        if i > 0 && (s.len() - i).is_multiple_of(3) {
             out.push(' ');
         }
         out.push(c);
@@ -75,9 +75,10 @@ impl Exporter for TextReport {
             ]);
         }
         out.push_str(&t.render());
-        out.push_str(&format!(
-            "u: standard uncertainty; rounded to two significant digits (JCGM 100 7.2.6). Expanded uncertainty U = half the symmetric interval:\n"
-        ));
+        out.push_str(
+            "u: standard uncertainty; rounded to two significant digits (JCGM 100 7.2.6). Expanded uncertainty U = half the symmetric interval:
+",
+        );
         for m in &f.measurands {
             let unit = measurand_unit(m);
             let s = &m.monte_carlo;

@@ -96,7 +96,10 @@ enum Param {
 }
 
 /// Families, their parameters and an example table line.
-const FAMILIES: &[(&str, &[(&str, Param)], &str)] = &[
+/// A family: its name, its parameters, and an example table line.
+type FamilySpec = (&'static str, &'static [(&'static str, Param)], &'static str);
+
+const FAMILIES: &[FamilySpec] = &[
     (
         "normal",
         &[("mean", Param::Quantity), ("sd", Param::Quantity)],

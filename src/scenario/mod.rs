@@ -735,7 +735,7 @@ impl<'a, 'i> Loader<'a, 'i> {
                     &span,
                     "inputs.reflectance",
                     format!(
-                        "reflectance + transmittance + diffuse_reflectance can exceed 1 (their upper ends are {r} + {t} + {rd} = {}), which would make the absorptance negative",
+                        "reflectance + transmittance + diffuse_reflectance can exceed 1 (their upper ends are {r:.6} + {t:.6} + {rd:.6} = {:.6}), which would make the absorptance negative",
                         r + t + rd
                     ),
                     "reflectance in [0.9990, 0.9995] with transmittance = 1e-4",

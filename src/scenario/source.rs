@@ -51,7 +51,7 @@ impl<'a> Source<'a> {
         let example = example.into();
         InputError {
             file: self.file.to_string(),
-            location: Some(self.locate(span)),
+            location: Some(Box::new(self.locate(span))),
             key: (!key.is_empty()).then(|| key.to_string()),
             message: message.into(),
             example: (!example.is_empty()).then_some(example),

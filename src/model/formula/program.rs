@@ -191,7 +191,7 @@ fn emit(
                 Expr::Number(n) if n.fract() == 0.0 && n.abs() <= 64.0 => {
                     ops.push(Op::PowI(n as i32))
                 }
-                Expr::Number(h) if h == 0.5 => ops.push(Op::Apply(Func::Sqrt)),
+                Expr::Number(0.5) => ops.push(Op::Apply(Func::Sqrt)),
                 _ => {
                     emit(b, resolve, ops, refs)?;
                     ops.push(Op::Pow);
