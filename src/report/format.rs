@@ -155,7 +155,7 @@ mod tests {
         );
         assert_eq!(
             value_and_uncertainty(12345.6, 320.0),
-            ("12300".into(), "320".into(), 1)
+            ("12350".into(), "320".into(), 1)
         );
         assert_eq!(
             value_and_uncertainty(-0.0001, 2.0),
