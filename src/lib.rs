@@ -14,6 +14,7 @@ pub mod model;
 pub mod output;
 pub mod physics;
 pub mod report;
+pub mod run;
 pub mod scalar;
 pub mod scenario;
 pub mod units;

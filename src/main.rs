@@ -4,8 +4,9 @@
 use clap::{Parser, Subcommand, ValueEnum};
 use radforce::error::{Error, InputError};
 use radforce::report::{self, Format};
+use radforce::run::{RunOptions, run_study};
 use radforce::scenario::{self, Study};
-use radforce::{analysis, engine, output};
+use radforce::{engine, output};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -110,6 +111,7 @@ fn apply_overrides(study: &mut Study, args: &RunArgs) -> Result<(), Error> {
             ));
         }
         study.trials = m;
+        study.adaptive = None;
     }
     if let Some(s) = args.seed {
         study.seed = s;
@@ -146,36 +148,17 @@ fn run(args: &RunArgs) -> Result<(), Error> {
         })?,
         None => engine::memory::default_budget(),
     };
-    let needed = engine::memory::sample_bytes(study.trials, study.model.measurands, study.coverage);
-    if needed > budget {
-        return Err(InputError {
-            file: study.file.clone(),
-            location: None,
-            key: Some("trials".into()),
-            message: format!(
-                "{} trials would need {} of sample storage, more than the memory budget of {}; lower `trials`, or raise the budget with --memory-budget",
-                study.trials,
-                engine::memory::format_bytes(needed),
-                engine::memory::format_bytes(budget)
-            ),
-            example: Some("trials = 1_000_000".into()),
-        }
-        .into());
-    }
+    let options = RunOptions {
+        memory_budget: budget,
+        keep_inputs: false,
+    };
+    radforce::run::check_memory(&study, &options)?;
     if !args.quiet {
         for w in &study.warnings {
             eprintln!("warning: {w}");
         }
     }
-    let plan = engine::Plan {
-        trials: study.trials,
-        seed: study.seed,
-        keep_inputs: false,
-    };
-    let findings = engine::with_threads(args.threads, || -> Result<_, Error> {
-        let samples = engine::simulate(&study, plan)?;
-        Ok(analysis::findings(&study, &samples))
-    })??;
+    let (findings, _samples) = engine::with_threads(args.threads, || run_study(&study, &options))??;
     let format = match args.format {
         FormatArg::Text => Format::Text,
         FormatArg::Json => Format::Json,

@@ -1,14 +1,34 @@
-//! Statistics on the samples: the Monte Carlo summary of each measurand, gathered with what the
-//! report needs to say about the inputs into [`Findings`]. Reports only format these.
+//! Statistics on the samples: the Monte Carlo summary of each measurand, the law of propagation
+//! beside it with its validation and budget, correlations, gathered into [`Findings`]. Reports
+//! only format these.
 
+pub mod budget;
 pub mod intervals;
+pub mod lpu;
 pub mod moments;
 pub mod summary;
+pub mod validation;
 
+use crate::engine::adaptive::AdaptiveRun;
 use crate::engine::{self, Samples};
 use crate::scenario::{InputQuantity, Study};
 use crate::units::{Dimension, DisplayUnit};
+use budget::BudgetRow;
+use lpu::MeasurandLpu;
+use moments::CoMoments;
+use rayon::prelude::*;
 pub use summary::{Summary, summarize};
+use validation::{Validation, numerical_tolerance, validate};
+
+/// The LPU validated against the Monte Carlo result (JCGM 101 clause 8), first order and with
+/// the higher-order terms.
+#[derive(Clone, Debug)]
+pub struct ValidationFinding {
+    /// First-order LPU.
+    pub first_order: Validation,
+    /// LPU with the higher-order terms, when they exist.
+    pub higher_order: Option<Validation>,
+}
 
 /// What the report says about one measurand.
 #[derive(Clone, Debug)]
@@ -25,6 +45,12 @@ pub struct MeasurandFinding {
     pub dimension: Option<Dimension>,
     /// The Monte Carlo result in SI.
     pub monte_carlo: Summary,
+    /// The law of propagation, when defined at the estimates.
+    pub lpu: Option<MeasurandLpu>,
+    /// The validation of the LPU.
+    pub validation: Option<ValidationFinding>,
+    /// The uncertainty budget.
+    pub budget: Vec<BudgetRow>,
 }
 
 /// What the report says about one input quantity.
@@ -48,6 +74,43 @@ pub struct InputFinding {
     pub shown_unit: DisplayUnit,
 }
 
+/// A correlation coefficient asked for between two inputs, and what the trials achieved.
+#[derive(Clone, Debug)]
+pub struct InputCorrelationFinding {
+    /// First input's name.
+    pub a: String,
+    /// Second input's name.
+    pub b: String,
+    /// The coefficient stated (of the normal scores for non-normal inputs).
+    pub coefficient: f64,
+    /// The Pearson correlation of the sampled values.
+    pub achieved: Option<f64>,
+}
+
+/// Correlation matrices of several measurands (JCGM 102:2011).
+#[derive(Clone, Debug)]
+pub struct MeasurandCorrelation {
+    /// Measurand names, the order of rows and columns.
+    pub names: Vec<String>,
+    /// From the trials.
+    pub monte_carlo: Vec<Vec<f64>>,
+    /// From the law of propagation (`None` where a measurand has no LPU or u_c = 0).
+    pub lpu: Vec<Vec<Option<f64>>>,
+}
+
+/// How an adaptive run went.
+#[derive(Clone, Debug)]
+pub struct AdaptiveFinding {
+    /// Significant digits asked for.
+    pub digits: u32,
+    /// Trials per batch.
+    pub batch_trials: u64,
+    /// Batches used.
+    pub batches: usize,
+    /// Whether the stopping rule was met.
+    pub converged: bool,
+}
+
 /// Everything a report shows.
 #[derive(Clone, Debug)]
 pub struct Findings {
@@ -61,6 +124,8 @@ pub struct Findings {
     pub seed: u64,
     /// Coverage probability.
     pub coverage: f64,
+    /// ndig of the numerical tolerance.
+    pub digits: u32,
     /// Generator description.
     pub generator: String,
     /// Crate versions that define the streams.
@@ -73,6 +138,12 @@ pub struct Findings {
     pub measurands: Vec<MeasurandFinding>,
     /// Inputs.
     pub inputs: Vec<InputFinding>,
+    /// Correlated input pairs.
+    pub input_correlations: Vec<InputCorrelationFinding>,
+    /// Correlation of the measurands, when there are several.
+    pub correlation: Option<MeasurandCorrelation>,
+    /// The adaptive procedure, when used.
+    pub adaptive: Option<AdaptiveFinding>,
     /// Warnings from loading and running.
     pub warnings: Vec<String>,
 }
@@ -91,36 +162,136 @@ fn input_finding(q: &InputQuantity) -> InputFinding {
     }
 }
 
-/// Summarise a run.
-pub fn findings(study: &Study, samples: &Samples) -> Findings {
-    let measurands = study
+/// Pearson correlation matrix of columns, from per-chunk joint moments merged in chunk order.
+pub fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
+    let n = columns.len();
+    let mut out = vec![vec![1.0; n]; n];
+    for a in 0..n {
+        for b in a + 1..n {
+            let parts: Vec<CoMoments> = columns[a]
+                .par_chunks(engine::CHUNK_TRIALS)
+                .zip(columns[b].par_chunks(engine::CHUNK_TRIALS))
+                .map(|(x, y)| CoMoments::of(x, y))
+                .collect();
+            let total = parts.iter().fold(CoMoments::EMPTY, |acc, p| acc.merge(p));
+            let r = total.correlation().unwrap_or(0.0);
+            out[a][b] = r;
+            out[b][a] = r;
+        }
+    }
+    out
+}
+
+/// Summarise a run: Monte Carlo results, the LPU beside them, validation, budgets and
+/// correlations.
+pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>) -> Findings {
+    let lpu = lpu::propagate(study);
+    let mut warnings = study.warnings.clone();
+    let measurands: Vec<MeasurandFinding> = study
         .measurands
         .iter()
         .enumerate()
-        .map(|(i, m)| MeasurandFinding {
-            name: m.name.clone(),
-            description: m.description.clone(),
-            unit: m
-                .unit
-                .clone()
-                .unwrap_or_else(|| DisplayUnit::si(m.dimension.unwrap_or(Dimension::NONE))),
-            unit_declared: m.unit.is_some(),
-            dimension: m.dimension,
-            monte_carlo: summarize(&samples.measurands[i], &samples.moments[i], study.coverage),
+        .map(|(i, m)| {
+            let mc = summarize(&samples.measurands[i], &samples.moments[i], study.coverage);
+            let factor = study.reporting_factor(i);
+            let lpu_m = lpu.measurands[i].clone();
+            if lpu_m.is_none() {
+                warnings.push(format!(
+                    "the law of propagation is not defined for `{}` at the input estimates (the model or a derivative is not finite there)",
+                    m.name
+                ));
+            }
+            let validation = lpu_m.as_ref().map(|l| {
+                let delta = numerical_tolerance(mc.standard_uncertainty / factor, study.digits) * factor;
+                let k = l.coverage_factor;
+                ValidationFinding {
+                    first_order: validate(l.estimate, k * l.standard_uncertainty, mc.symmetric_interval, delta),
+                    higher_order: l
+                        .higher_order_standard_uncertainty
+                        .map(|uh| validate(l.estimate, k * uh, mc.symmetric_interval, delta)),
+                }
+            });
+            let budget = lpu_m.as_ref().map_or_else(Vec::new, |l| budget::budget(study, l));
+            MeasurandFinding {
+                name: m.name.clone(),
+                description: m.description.clone(),
+                unit: m
+                    .unit
+                    .clone()
+                    .unwrap_or_else(|| DisplayUnit::si(m.dimension.unwrap_or(Dimension::NONE))),
+                unit_declared: m.unit.is_some(),
+                dimension: m.dimension,
+                monte_carlo: mc,
+                lpu: lpu_m,
+                validation,
+                budget,
+            }
         })
         .collect();
+    let correlation = (measurands.len() > 1).then(|| {
+        let lpu_corr = (0..measurands.len())
+            .map(|a| {
+                (0..measurands.len())
+                    .map(|b| {
+                        let (ua, ub) = (lpu.covariance[a][a].sqrt(), lpu.covariance[b][b].sqrt());
+                        let defined = measurands[a].lpu.is_some()
+                            && measurands[b].lpu.is_some()
+                            && ua > 0.0
+                            && ub > 0.0;
+                        defined.then(|| (lpu.covariance[a][b] / (ua * ub)).clamp(-1.0, 1.0))
+                    })
+                    .collect()
+            })
+            .collect();
+        MeasurandCorrelation {
+            names: measurands.iter().map(|m| m.name.clone()).collect(),
+            monte_carlo: sample_correlation(&samples.measurands),
+            lpu: lpu_corr,
+        }
+    });
+    let input_correlations = study
+        .correlations
+        .pairs
+        .iter()
+        .zip(&samples.input_pairs)
+        .map(|(p, c)| InputCorrelationFinding {
+            a: study.inputs[p.a].name.clone(),
+            b: study.inputs[p.b].name.clone(),
+            coefficient: p.coefficient,
+            achieved: c.correlation(),
+        })
+        .collect();
+    let adaptive_finding = adaptive.map(|a| AdaptiveFinding {
+        digits: study.digits,
+        batch_trials: a.batch_trials,
+        batches: a.batches.len(),
+        converged: a.converged,
+    });
+    if let Some(a) = &adaptive_finding
+        && !a.converged
+    {
+        warnings.push(format!(
+            "the adaptive procedure stopped at its cap of {} trials before the results were stable to {} significant digits; raise [adaptive] max_trials",
+            a.batch_trials * a.batches as u64,
+            a.digits
+        ));
+    }
     Findings {
         file: study.file.clone(),
         title: study.title.clone(),
         trials: samples.trials as u64,
         seed: study.seed,
         coverage: study.coverage,
+        digits: study.digits,
         generator: engine::generator_description(),
         stream_crates: engine::stream_crates(),
         chain: study.chain.map(|c| c.spec().name),
         laser: study.laser,
         measurands,
         inputs: study.inputs.iter().map(input_finding).collect(),
-        warnings: study.warnings.clone(),
+        input_correlations,
+        correlation,
+        adaptive: adaptive_finding,
+        warnings,
     }
 }

@@ -91,6 +91,90 @@ impl Moments {
     }
 }
 
+/// Joint moments of two columns: means, sums of squared deviations and the sum of products of
+/// deviations, combined in a fixed order like [`Moments`] (the bivariate form of the pairwise
+/// update: C = C_a + C_b + dx dy n_a n_b / n).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct CoMoments {
+    /// Number of pairs.
+    pub count: u64,
+    /// Mean of x.
+    pub mean_x: f64,
+    /// Mean of y.
+    pub mean_y: f64,
+    /// Sum of squared deviations of x.
+    pub m2x: f64,
+    /// Sum of squared deviations of y.
+    pub m2y: f64,
+    /// Sum of products of deviations.
+    pub cxy: f64,
+}
+
+impl CoMoments {
+    /// No pairs.
+    pub const EMPTY: CoMoments = CoMoments {
+        count: 0,
+        mean_x: 0.0,
+        mean_y: 0.0,
+        m2x: 0.0,
+        m2y: 0.0,
+        cxy: 0.0,
+    };
+
+    /// Joint moments of two equally long slices (two passes).
+    pub fn of(x: &[f64], y: &[f64]) -> CoMoments {
+        let n = x.len().min(y.len());
+        if n == 0 {
+            return CoMoments::EMPTY;
+        }
+        let mx = compensated_sum(&x[..n]) / n as f64;
+        let my = compensated_sum(&y[..n]) / n as f64;
+        let (mut sxx, mut syy, mut sxy) = (0.0, 0.0, 0.0);
+        for (a, b) in x[..n].iter().zip(&y[..n]) {
+            let (dx, dy) = (a - mx, b - my);
+            sxx += dx * dx;
+            syy += dy * dy;
+            sxy += dx * dy;
+        }
+        CoMoments {
+            count: n as u64,
+            mean_x: mx,
+            mean_y: my,
+            m2x: sxx,
+            m2y: syy,
+            cxy: sxy,
+        }
+    }
+
+    /// Combine with the joint moments of the pairs that follow.
+    pub fn merge(&self, o: &CoMoments) -> CoMoments {
+        if o.count == 0 {
+            return *self;
+        }
+        if self.count == 0 {
+            return *o;
+        }
+        let (na, nb) = (self.count as f64, o.count as f64);
+        let n = na + nb;
+        let (dx, dy) = (o.mean_x - self.mean_x, o.mean_y - self.mean_y);
+        let w = na * nb / n;
+        CoMoments {
+            count: self.count + o.count,
+            mean_x: self.mean_x + dx * nb / n,
+            mean_y: self.mean_y + dy * nb / n,
+            m2x: self.m2x + o.m2x + dx * dx * w,
+            m2y: self.m2y + o.m2y + dy * dy * w,
+            cxy: self.cxy + o.cxy + dx * dy * w,
+        }
+    }
+
+    /// Pearson correlation coefficient; `None` when either column is constant.
+    pub fn correlation(&self) -> Option<f64> {
+        let d = (self.m2x * self.m2y).sqrt();
+        (d > 0.0).then(|| (self.cxy / d).clamp(-1.0, 1.0))
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -113,5 +197,37 @@ mod tests {
         let var =
             values.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (values.len() - 1) as f64;
         assert_relative_eq!(whole.variance(), var, max_relative = 1e-9);
+    }
+
+    #[test]
+    fn merged_co_moments_equal_the_whole() {
+        let x: Vec<f64> = (0..5000).map(|i| ((i * 37) % 101) as f64).collect();
+        let y: Vec<f64> = x
+            .iter()
+            .enumerate()
+            .map(|(i, v)| 0.5 * v + ((i * 13) % 7) as f64)
+            .collect();
+        let whole = CoMoments::of(&x, &y);
+        let merged = x
+            .chunks(333)
+            .zip(y.chunks(333))
+            .map(|(a, b)| CoMoments::of(a, b))
+            .fold(CoMoments::EMPTY, |a, b| a.merge(&b));
+        assert_relative_eq!(
+            whole.correlation().unwrap(),
+            merged.correlation().unwrap(),
+            max_relative = 1e-12
+        );
+        // Direct Pearson reference.
+        let n = x.len() as f64;
+        let (mx, my) = (x.iter().sum::<f64>() / n, y.iter().sum::<f64>() / n);
+        let sxy: f64 = x.iter().zip(&y).map(|(a, b)| (a - mx) * (b - my)).sum();
+        let sxx: f64 = x.iter().map(|a| (a - mx).powi(2)).sum();
+        let syy: f64 = y.iter().map(|b| (b - my).powi(2)).sum();
+        assert_relative_eq!(
+            whole.correlation().unwrap(),
+            sxy / (sxx * syy).sqrt(),
+            max_relative = 1e-12
+        );
     }
 }

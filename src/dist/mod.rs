@@ -34,7 +34,7 @@ pub use gamma::GammaDist;
 pub use lognormal::LogNormal;
 pub use normal::Normal;
 pub use rectangular::Rectangular;
-pub use student_t::ScaledT;
+pub use student_t::{ScaledT, T_QUANTILE_NORMAL_ABOVE, t_quantile as student_t_quantile};
 pub use trapezoidal::Trapezoidal;
 pub use triangular::Triangular;
 pub use truncated_normal::TruncatedNormal;

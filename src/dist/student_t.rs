@@ -145,3 +145,25 @@ impl Family for ScaledT {
         Some(self.dof)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // t quantiles: t_0.975(16) = 2.1199, t_0.995(16) = 2.9208 [calc, REFERENCES 2]; above 1e4
+    // degrees of freedom the normal quantile is used (statrs 0.19 is wrong there and never
+    // returns at infinity); the switch moves the 97.5 % point by less than 1e-4 relative
+    // (t_0.975(1e4) = 1.960201 against 1.959964).
+    #[test]
+    fn t_quantiles_and_the_switch_to_normal() {
+        assert!((t_quantile(0.975, 16.0) - 2.1199).abs() < 1e-4);
+        assert!((t_quantile(0.995, 16.0) - 2.9208).abs() < 1e-4);
+        let below = t_quantile(0.975, T_QUANTILE_NORMAL_ABOVE);
+        let above = t_quantile(0.975, T_QUANTILE_NORMAL_ABOVE * 1.0001);
+        assert!((below - 1.960_201).abs() < 2e-6, "{below}");
+        assert!((above - 1.959_964).abs() < 1e-6, "{above}");
+        assert!((below - above).abs() / above < 1.3e-4);
+        assert!((t_quantile(0.975, f64::INFINITY) - 1.959_964).abs() < 1e-6);
+        assert!((t_quantile(0.975, 1e7) - 1.959_964).abs() < 1e-6);
+    }
+}

@@ -6,12 +6,14 @@
 //! columns, and per-chunk statistics are combined in chunk order. So the samples and every
 //! number computed from them depend on the seed and M only, never on the thread count.
 
+pub mod adaptive;
 pub mod memory;
+pub mod sampling;
 pub mod stream;
 
-use crate::analysis::moments::Moments;
+use crate::analysis::moments::{CoMoments, Moments};
 use crate::error::RunError;
-use crate::scenario::{Law, Study};
+use crate::scenario::Study;
 use rayon::prelude::*;
 use std::sync::atomic::{AtomicU64, Ordering};
 
@@ -51,6 +53,30 @@ pub struct Samples {
     pub inputs: Option<Vec<Vec<f64>>>,
     /// Mean and sum of squared deviations per measurand, combined in chunk order.
     pub moments: Vec<Moments>,
+    /// Joint moments of each correlated input pair (in `study.correlations.pairs` order), for
+    /// the achieved sample correlation.
+    pub input_pairs: Vec<CoMoments>,
+}
+
+impl Samples {
+    /// Append the trials of a later run (the next batch of an adaptive run).
+    pub fn append(&mut self, other: Samples) {
+        self.trials += other.trials;
+        for (a, b) in self.measurands.iter_mut().zip(other.measurands) {
+            a.extend_from_slice(&b);
+        }
+        if let (Some(a), Some(b)) = (self.inputs.as_mut(), other.inputs) {
+            for (x, y) in a.iter_mut().zip(b) {
+                x.extend_from_slice(&y);
+            }
+        }
+        for (a, b) in self.moments.iter_mut().zip(&other.moments) {
+            *a = a.merge(b);
+        }
+        for (a, b) in self.input_pairs.iter_mut().zip(&other.input_pairs) {
+            *a = a.merge(b);
+        }
+    }
 }
 
 /// What to generate.
@@ -60,8 +86,23 @@ pub struct Plan {
     pub trials: u64,
     /// Seed.
     pub seed: u64,
+    /// Index of the first chunk: a run that continues a stream (the next batch of an adaptive
+    /// run) starts past the chunks already drawn.
+    pub first_chunk: u64,
     /// Keep the input columns (for sensitivity and exports).
     pub keep_inputs: bool,
+}
+
+impl Plan {
+    /// M trials under `seed` from the first chunk, without input columns.
+    pub fn new(trials: u64, seed: u64) -> Plan {
+        Plan {
+            trials,
+            seed,
+            first_chunk: 0,
+            keep_inputs: false,
+        }
+    }
 }
 
 struct Fault {
@@ -69,6 +110,13 @@ struct Fault {
     measurand: usize,
     value: f64,
     inputs: Vec<f64>,
+}
+
+/// What one chunk reports besides its samples.
+#[derive(Default)]
+struct ChunkStats {
+    moments: Vec<Moments>,
+    pairs: Vec<CoMoments>,
 }
 
 /// Run the trials of `plan` on the current rayon pool.
@@ -102,22 +150,18 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
         }
     }
 
+    let steps = sampling::fill_steps(study);
     let first_failed_chunk = AtomicU64::new(u64::MAX);
-    let results: Vec<Result<Vec<Moments>, Fault>> = per_chunk
+    let results: Vec<Result<ChunkStats, Fault>> = per_chunk
         .into_par_iter()
         .enumerate()
         .map(|(k, mut slices)| {
             if (k as u64) > first_failed_chunk.load(Ordering::Relaxed) {
-                return Ok(Vec::new());
+                return Ok(ChunkStats::default());
             }
             let (outs, ins) = slices.split_at_mut(n_meas);
-            let r = run_chunk(
-                study,
-                plan.seed,
-                k,
-                outs,
-                if plan.keep_inputs { Some(ins) } else { None },
-            );
+            let ins = if plan.keep_inputs { Some(ins) } else { None };
+            let r = run_chunk(study, &steps, plan, k, outs, ins);
             if r.is_err() {
                 first_failed_chunk.fetch_min(k as u64, Ordering::Relaxed);
             }
@@ -126,11 +170,15 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
         .collect();
 
     let mut moments = vec![Moments::EMPTY; n_meas];
+    let mut input_pairs = vec![CoMoments::EMPTY; study.correlations.pairs.len()];
     for r in results {
         match r {
-            Ok(chunk_moments) => {
-                for (total, part) in moments.iter_mut().zip(chunk_moments) {
-                    *total = total.merge(&part);
+            Ok(chunk) => {
+                for (total, part) in moments.iter_mut().zip(&chunk.moments) {
+                    *total = total.merge(part);
+                }
+                for (total, part) in input_pairs.iter_mut().zip(&chunk.pairs) {
+                    *total = total.merge(part);
                 }
             }
             Err(f) => {
@@ -155,40 +203,44 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
         measurands: meas_cols,
         inputs: in_cols,
         moments,
+        input_pairs,
     })
 }
 
 /// One chunk: draw, evaluate, store, and summarise its measurand values.
 fn run_chunk(
     study: &Study,
-    seed: u64,
+    steps: &[sampling::FillStep],
+    plan: Plan,
     chunk: usize,
     outs: &mut [&mut [f64]],
     mut ins: Option<&mut [&mut [f64]]>,
-) -> Result<Vec<Moments>, Fault> {
+) -> Result<ChunkStats, Fault> {
     let model = &study.model;
     let n_in = model.inputs;
     let stride = BLOCK_TRIALS;
     let n = outs.first().map_or(0, |s| s.len());
-    let mut rng = stream::chunk_stream(seed, chunk as u64);
+    let global_chunk = plan.first_chunk + chunk as u64;
+    let mut rng = stream::chunk_stream(plan.seed, global_chunk);
     let mut work = vec![0.0f64; model.columns() * stride];
     let mut stack = vec![0.0f64; model.stack_depth() * stride];
+    let pairs = &study.correlations.pairs;
+    let mut pair_stats = vec![CoMoments::EMPTY; pairs.len()];
     let mut start = 0;
     while start < n {
         let b = stride.min(n - start);
-        for (i, q) in study.inputs.iter().enumerate() {
-            let col = &mut work[i * stride..i * stride + b];
-            match &q.law {
-                Law::Constant(v) => col.fill(*v),
-                Law::Distributed(d) => d.fill(&mut rng, col),
-            }
+        sampling::fill_inputs(study, steps, &mut rng, &mut work, stride, b);
+        for (stat, p) in pair_stats.iter_mut().zip(pairs) {
+            let x = &work[p.a * stride..p.a * stride + b];
+            let y = &work[p.b * stride..p.b * stride + b];
+            *stat = stat.merge(&CoMoments::of(x, y));
         }
         model.evaluate_block(&mut work, stride, b, &mut stack);
         for (mi, out) in outs.iter_mut().enumerate() {
             let col = &work[(n_in + mi) * stride..(n_in + mi) * stride + b];
             if let Some(j) = col.iter().position(|v| !v.is_finite()) {
                 return Err(Fault {
-                    trial: (chunk * CHUNK_TRIALS + start + j) as u64,
+                    trial: global_chunk * CHUNK_TRIALS as u64 + (start + j) as u64,
                     measurand: mi,
                     value: col[j],
                     inputs: (0..n_in).map(|i| work[i * stride + j]).collect(),
@@ -203,7 +255,10 @@ fn run_chunk(
         }
         start += b;
     }
-    Ok(outs.iter().map(|o| Moments::of(o)).collect())
+    Ok(ChunkStats {
+        moments: outs.iter().map(|o| Moments::of(o)).collect(),
+        pairs: pair_stats,
+    })
 }
 
 /// Run `f` on a pool of `threads` workers (all cores when `None`).

@@ -44,9 +44,10 @@ pub fn value_and_uncertainty(x: f64, u: f64) -> (String, String, i32) {
 }
 
 /// A relative uncertainty as a percentage with two significant digits ("0.21 %"), or "-" when
-/// the estimate is zero.
+/// the estimate is zero or smaller than its uncertainty (a relative uncertainty above 100 % says
+/// nothing useful about a quantity that is compatible with zero).
 pub fn relative_percent(u: f64, x: f64) -> String {
-    if x == 0.0 || !x.is_finite() {
+    if x == 0.0 || !x.is_finite() || u >= x.abs() {
         return "-".to_string();
     }
     let r = 100.0 * u / x.abs();
@@ -129,6 +130,23 @@ pub fn input_pair(
     }
 }
 
+/// `x` to `n` significant digits: fixed notation for moderate sizes, scientific otherwise.
+pub fn significant(x: f64, n: usize) -> String {
+    if x == 0.0 {
+        return "0".into();
+    }
+    if !x.is_finite() {
+        return format!("{x}");
+    }
+    let lead = x.abs().log10().floor() as i32;
+    if (-3..5).contains(&lead) {
+        let decimals = (n as i32 - 1 - lead).max(0) as usize;
+        format!("{x:.decimals$}")
+    } else {
+        format!("{x:.prec$e}", prec = n.saturating_sub(1))
+    }
+}
+
 /// A number in its shortest exact form, for constants.
 pub fn exact(x: f64) -> String {
     format!("{x}")
@@ -163,5 +181,10 @@ mod tests {
         );
         assert_eq!(relative_percent(0.052, 25.0), "0.21 %");
         assert_eq!(relative_percent(1.0, 0.0), "-");
+        assert_eq!(relative_percent(2.0, 0.0015), "-");
+        assert_eq!(significant(1.0, 4), "1.000");
+        assert_eq!(significant(-3.4695e-19, 3), "-3.47e-19");
+        assert_eq!(significant(0.012345, 2), "0.012");
+        assert_eq!(significant(123456.0, 3), "1.23e5");
     }
 }

@@ -5,7 +5,7 @@
 
 use super::Exporter;
 use super::cautions::cautions;
-use crate::analysis::Findings;
+use crate::analysis::{Findings, MeasurandFinding};
 use serde_json::{Map, Value, json};
 
 /// The JSON report.
@@ -19,29 +19,80 @@ fn pair(p: (f64, f64), k: f64) -> Value {
     json!([num(p.0 / k), num(p.1 / k)])
 }
 
-/// Build the report object.
-pub fn report_value(f: &Findings) -> Value {
-    let measurands: Vec<Value> = f
-        .measurands
+fn sensitivity_unit(measurand: &str, input: &str) -> String {
+    match (measurand.is_empty(), input.is_empty()) {
+        (_, true) => measurand.to_string(),
+        (true, false) => format!("1/{input}"),
+        (false, false) => format!("{measurand}/({input})"),
+    }
+}
+
+fn measurand_value(f: &Findings, m: &MeasurandFinding) -> Value {
+    let s = &m.monte_carlo;
+    let k = m.unit.factor;
+    let lpu = m.lpu.as_ref().map_or(Value::Null, |l| {
+        json!({
+            "estimate": num(l.estimate / k),
+            "standard_uncertainty": num(l.standard_uncertainty / k),
+            "higher_order_standard_uncertainty": l.higher_order_standard_uncertainty.map_or(Value::Null, |u| num(u / k)),
+            "effective_dof": if l.effective_dof.is_finite() { num(l.effective_dof) } else { Value::Null },
+            "coverage_factor": num(l.coverage_factor),
+            "interval": pair(l.interval, k),
+        })
+    });
+    let validation = m.validation.as_ref().map_or(Value::Null, |v| {
+        json!({
+            "delta": num(v.first_order.delta / k),
+            "d_low": num(v.first_order.d_low / k),
+            "d_high": num(v.first_order.d_high / k),
+            "validated": v.first_order.validated,
+            "higher_order": v.higher_order.map_or(Value::Null, |h| json!({
+                "d_low": num(h.d_low / k),
+                "d_high": num(h.d_high / k),
+                "validated": h.validated,
+            })),
+        })
+    });
+    let budget: Vec<Value> = m
+        .budget
         .iter()
-        .map(|m| {
-            let s = &m.monte_carlo;
-            let k = m.unit.factor;
+        .map(|r| {
+            let q = &f.inputs[r.input];
             json!({
-                "name": m.name,
-                "unit": m.unit.symbol,
-                "estimate": num(s.estimate / k),
-                "standard_uncertainty": num(s.standard_uncertainty / k),
-                "symmetric_interval": pair(s.symmetric_interval, k),
-                "shortest_interval": pair(s.shortest_interval, k),
-                "expanded_uncertainty": num(s.expanded_uncertainty / k),
-                "coverage_factor": s.coverage_factor.map_or(Value::Null, num),
-                "relative_standard_uncertainty": if s.estimate != 0.0 { num(s.standard_uncertainty / s.estimate.abs()) } else { Value::Null },
-                "unit_to_si": num(k),
-                "description": m.description,
+                "input": q.name,
+                "distribution": q.distribution,
+                "unit": q.si_unit,
+                "estimate": num(r.estimate),
+                "standard_uncertainty": num(r.standard_uncertainty),
+                "sensitivity": num(r.sensitivity / k),
+                "sensitivity_unit": sensitivity_unit(&m.unit.symbol, &q.si_unit),
+                "contribution": num(r.contribution / k),
+                "share": num(r.share),
+                "degrees_of_freedom": r.dof.map_or(Value::Null, num),
             })
         })
         .collect();
+    json!({
+        "name": m.name,
+        "unit": m.unit.symbol,
+        "estimate": num(s.estimate / k),
+        "standard_uncertainty": num(s.standard_uncertainty / k),
+        "symmetric_interval": pair(s.symmetric_interval, k),
+        "shortest_interval": pair(s.shortest_interval, k),
+        "expanded_uncertainty": num(s.expanded_uncertainty / k),
+        "coverage_factor": s.coverage_factor.map_or(Value::Null, num),
+        "relative_standard_uncertainty": if s.estimate != 0.0 { num(s.standard_uncertainty / s.estimate.abs()) } else { Value::Null },
+        "unit_to_si": num(k),
+        "description": m.description,
+        "lpu": lpu,
+        "validation": validation,
+        "budget": budget,
+    })
+}
+
+/// Build the report object.
+pub fn report_value(f: &Findings) -> Value {
+    let measurands: Vec<Value> = f.measurands.iter().map(|m| measurand_value(f, m)).collect();
     let inputs: Vec<Value> = f
         .inputs
         .iter()
@@ -60,6 +111,21 @@ pub fn report_value(f: &Findings) -> Value {
     for (name, version) in &f.stream_crates {
         crates.insert((*name).to_string(), json!(version));
     }
+    let correlation = f.correlation.as_ref().map_or(Value::Null, |c| {
+        json!({
+            "names": c.names,
+            "matrix": c.monte_carlo.iter().map(|row| row.iter().map(|x| num(*x)).collect::<Vec<_>>()).collect::<Vec<_>>(),
+            "lpu_matrix": c.lpu.iter().map(|row| row.iter().map(|x| x.map_or(Value::Null, num)).collect::<Vec<_>>()).collect::<Vec<_>>(),
+        })
+    });
+    let input_correlations: Vec<Value> = f
+        .input_correlations
+        .iter()
+        .map(|c| json!({"between": [c.a, c.b], "coefficient": num(c.coefficient), "achieved": c.achieved.map_or(Value::Null, num)}))
+        .collect();
+    let adaptive = f.adaptive.as_ref().map_or(Value::Null, |a| {
+        json!({"digits": a.digits, "batch_trials": a.batch_trials, "batches": a.batches, "converged": a.converged})
+    });
     json!({
         "title": f.title,
         "trials": f.trials,
@@ -72,7 +138,12 @@ pub fn report_value(f: &Findings) -> Value {
         "radforce_version": env!("CARGO_PKG_VERSION"),
         "scenario": f.file,
         "chain": f.chain,
-        "method": "Monte Carlo propagation of distributions, JCGM 101:2008",
+        "method": "Monte Carlo propagation of distributions, JCGM 101:2008; law of propagation of uncertainty, JCGM 100:2008",
+        "trials_used": f.trials,
+        "digits": f.digits,
+        "adaptive": adaptive,
+        "correlation": correlation,
+        "input_correlations": input_correlations,
         "warnings": f.warnings,
         "cautions": cautions(f.laser),
     })
@@ -85,6 +156,15 @@ const NULLABLE: &[&str] = &[
     "standard_uncertainty",
     "degrees_of_freedom",
     "chain",
+    "lpu",
+    "validation",
+    "higher_order",
+    "higher_order_standard_uncertainty",
+    "effective_dof",
+    "lpu_matrix",
+    "achieved",
+    "adaptive",
+    "correlation",
 ];
 
 /// Check that no number was lost: every null sits in a nullable field.

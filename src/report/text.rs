@@ -3,10 +3,10 @@
 use super::Exporter;
 use super::cautions::cautions;
 use super::format::{
-    exact, fixed, input_pair, measurand_unit, relative_percent, value_and_uncertainty,
+    exact, fixed, input_pair, measurand_unit, relative_percent, significant, value_and_uncertainty,
 };
 use super::table::TextTable;
-use crate::analysis::Findings;
+use crate::analysis::{Findings, MeasurandFinding};
 
 /// Human-readable tables of the results, with GUM rounding and readable units.
 pub struct TextReport;
@@ -92,6 +92,12 @@ impl Exporter for TextReport {
             ));
         }
 
+        lpu_section(&mut out, f);
+        for m in &f.measurands {
+            budget_section(&mut out, f, m);
+        }
+        correlation_section(&mut out, f);
+
         out.push('\n');
         let mut t = TextTable::new(
             &[
@@ -128,6 +134,27 @@ impl Exporter for TextReport {
             ]);
         }
         out.push_str(&t.render());
+        if !f.input_correlations.is_empty() {
+            out.push_str("correlated inputs (for non-normal inputs the coefficient applies to the normal scores of a Gaussian copula):\n");
+            for c in &f.input_correlations {
+                out.push_str(&format!(
+                    "  r({}, {}) = {}   achieved in the trials: {}\n",
+                    c.a,
+                    c.b,
+                    c.coefficient,
+                    c.achieved.map_or("-".to_string(), |r| format!("{r:.4}"))
+                ));
+            }
+        }
+        if let Some(a) = &f.adaptive {
+            out.push_str(&format!(
+                "adaptive procedure (JCGM 101 7.9.4): {} batches of {} trials, {} to {} significant digits\n",
+                a.batches,
+                grouped(a.batch_trials),
+                if a.converged { "stable" } else { "NOT yet stable" },
+                a.digits
+            ));
+        }
 
         if !f.warnings.is_empty() {
             out.push_str("\nwarnings:\n");
@@ -143,4 +170,158 @@ impl Exporter for TextReport {
         out.push_str(&format!("Random streams: {}\n", f.generator));
         out.into_bytes()
     }
+}
+
+fn yes_no(b: bool) -> &'static str {
+    if b { "yes" } else { "no" }
+}
+
+/// The law of propagation beside the Monte Carlo result, and its validation (JCGM 101 8).
+fn lpu_section(out: &mut String, f: &Findings) {
+    if f.measurands.iter().all(|m| m.lpu.is_none()) {
+        return;
+    }
+    let p = percent(f.coverage);
+    out.push_str("\nLaw of propagation of uncertainty (JCGM 100:2008), validated against the Monte Carlo result (JCGM 101 clause 8)\n");
+    let interval = format!("{p} interval");
+    let mut t = TextTable::new(
+        &[
+            "measurand",
+            "unit",
+            "y = f(x)",
+            "u 1st order",
+            "u higher order",
+            "nu_eff",
+            "k",
+            &interval,
+            "delta",
+            "validated 1st / higher",
+        ],
+        &[
+            false, false, true, true, true, true, true, false, true, false,
+        ],
+    );
+    for m in &f.measurands {
+        let Some(l) = &m.lpu else { continue };
+        let unit = measurand_unit(m);
+        let k = unit.factor;
+        let (y, u, e) = value_and_uncertainty(l.estimate / k, l.standard_uncertainty / k);
+        let uh = l
+            .higher_order_standard_uncertainty
+            .map_or("-".to_string(), |uh| value_and_uncertainty(0.0, uh / k).1);
+        let v = m.validation.as_ref();
+        t.row(vec![
+            m.name.clone(),
+            unit.symbol.clone(),
+            y,
+            u,
+            uh,
+            if l.effective_dof.is_finite() {
+                format!("{:.1}", l.effective_dof)
+            } else {
+                "inf".into()
+            },
+            format!("{:.3}", l.coverage_factor),
+            format!(
+                "[{}, {}]",
+                fixed(l.interval.0 / k, e),
+                fixed(l.interval.1 / k, e)
+            ),
+            v.map_or("-".into(), |v| format!("{:.1e}", v.first_order.delta / k)),
+            v.map_or("-".into(), |v| {
+                format!(
+                    "{} / {}",
+                    yes_no(v.first_order.validated),
+                    v.higher_order.map_or("-", |h| yes_no(h.validated))
+                )
+            }),
+        ]);
+    }
+    out.push_str(&t.render());
+}
+
+/// The uncertainty budget of one measurand.
+fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
+    if m.budget.is_empty() {
+        return;
+    }
+    let unit = measurand_unit(m);
+    let k = unit.factor;
+    out.push_str(&format!(
+        "\nuncertainty budget of {} ({}), largest contribution first\n",
+        m.name,
+        if unit.symbol.is_empty() {
+            "no unit"
+        } else {
+            unit.symbol.as_str()
+        }
+    ));
+    let mut t = TextTable::new(
+        &[
+            "input",
+            "distribution",
+            "estimate",
+            "u(x)",
+            "unit",
+            "sensitivity c",
+            "|c| u(x)",
+            "share",
+            "dof",
+        ],
+        &[false, false, true, true, false, true, true, true, true],
+    );
+    for r in &m.budget {
+        let q = &f.inputs[r.input];
+        let (est, u, shown) = input_pair(
+            r.estimate,
+            Some(r.standard_uncertainty),
+            &q.shown_unit,
+            q.dimension,
+        );
+        // c in (measurand unit as shown) per (input unit as shown).
+        let shown_factor = if shown == q.shown_unit.symbol {
+            q.shown_unit.factor
+        } else {
+            crate::units::parse_unit(&shown).map_or(1.0, |x| x.factor)
+        };
+        let c = r.sensitivity * shown_factor / k;
+        let c_unit = match (unit.symbol.as_str(), shown.as_str()) {
+            (a, "") => a.to_string(),
+            ("", b) if b.contains(' ') || b.contains('/') => format!("1/({b})"),
+            ("", b) => format!("1/{b}"),
+            (a, b) if b.contains(' ') || b.contains('/') => format!("{a}/({b})"),
+            (a, b) => format!("{a}/{b}"),
+        };
+        t.row(vec![
+            q.name.clone(),
+            q.distribution.clone(),
+            est,
+            u,
+            shown,
+            format!("{} {c_unit}", significant(c, 4)),
+            significant(r.contribution / k, 2),
+            format!("{:.1} %", 100.0 * r.share),
+            r.dof.map_or(String::new(), |d| format!("{d}")),
+        ]);
+    }
+    out.push_str(&t.render());
+}
+
+/// Correlation of several measurands (JCGM 102), from the trials and from the LPU.
+fn correlation_section(out: &mut String, f: &Findings) {
+    let Some(c) = &f.correlation else { return };
+    out.push_str("\ncorrelation of the measurands (JCGM 102): Monte Carlo / law of propagation\n");
+    let mut headers: Vec<&str> = vec![""];
+    headers.extend(c.names.iter().map(String::as_str));
+    let right: Vec<bool> = (0..headers.len()).map(|i| i > 0).collect();
+    let mut t = TextTable::new(&headers, &right);
+    for (a, name) in c.names.iter().enumerate() {
+        let mut row = vec![name.clone()];
+        for b in 0..c.names.len() {
+            let l = c.lpu[a][b].map_or("-".to_string(), |x| format!("{x:.3}"));
+            row.push(format!("{:.3} / {l}", c.monte_carlo[a][b]));
+        }
+        t.row(row);
+    }
+    out.push_str(&t.render());
 }

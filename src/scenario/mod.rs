@@ -2,10 +2,12 @@
 //! model, producing a [`Study`] the engine can run. Every error names the file, line, column and
 //! key and shows a valid example; nothing is clamped silently.
 
+mod correlation;
 mod inputs;
 mod source;
 mod table;
 
+pub use correlation::{CorrelatedGroup, CorrelatedPair, Correlations};
 pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
 pub use source::{Source, edit_distance, nearest};
 
@@ -71,8 +73,38 @@ pub struct Study {
     pub chain: Option<ChainKind>,
     /// The compiled model.
     pub model: Model,
+    /// Correlated inputs.
+    pub correlations: Correlations,
+    /// The adaptive procedure of JCGM 101 7.9, when asked for (then `trials` is the batch size).
+    pub adaptive: Option<Adaptive>,
     /// Things worth knowing that do not stop the run.
     pub warnings: Vec<String>,
+}
+
+/// Settings of the adaptive Monte Carlo procedure (JCGM 101:2008 7.9.4).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Adaptive {
+    /// Significant digits `ndig` the results must be stable to.
+    pub digits: u32,
+    /// Most trials before giving up.
+    pub max_trials: u64,
+}
+
+/// Batch size of the adaptive procedure: M = max(J, 10^4) with J the smallest whole number
+/// >= 100 / (1 - p) (JCGM 101 7.9.4 b).
+pub fn adaptive_batch_trials(coverage: f64) -> u64 {
+    let j = (100.0 / (1.0 - coverage)).ceil() as u64;
+    j.max(10_000)
+}
+
+impl Study {
+    /// The factor from SI to the unit a measurand is reported in (its `unit`, else 1).
+    pub fn reporting_factor(&self, measurand: usize) -> f64 {
+        self.measurands[measurand]
+            .unit
+            .as_ref()
+            .map_or(1.0, |u| u.factor)
+    }
 }
 
 const TOP_KEYS: &[&str] = &[
@@ -85,7 +117,12 @@ const TOP_KEYS: &[&str] = &[
     "model",
     "inputs",
     "measurands",
+    "correlation",
+    "adaptive",
 ];
+
+/// Default cap on the trials of an adaptive run.
+pub const DEFAULT_ADAPTIVE_MAX_TRIALS: u64 = 100_000_000;
 
 const TOP_EXAMPLE: &str = "title = \"...\", trials = 1_000_000, seed = 7, coverage = 0.95, [model], [inputs.NAME], [measurands.NAME]";
 
@@ -183,10 +220,14 @@ impl<'a, 'i> Loader<'a, 'i> {
             Some(e) => e.whole(0, i64::MAX as u64, "seed = 7")?,
             None => 1,
         };
-        let digits = match top.get("digits") {
+        let mut digits = match top.get("digits") {
             Some(e) => e.whole(1, 6, "digits = 2")? as u32,
             None => 2,
         };
+        let adaptive = self.adaptive()?;
+        if let Some(a) = &adaptive {
+            digits = a.digits;
+        }
         let laser = match top.get("laser") {
             Some(e) => e.boolean("laser = false   (for a study with no laser in it)")?,
             None => true,
@@ -205,10 +246,19 @@ impl<'a, 'i> Loader<'a, 'i> {
         }
 
         let inputs = self.inputs(chain.as_ref().map(|c| c.0))?;
+        let correlations = match top.get("correlation") {
+            Some(e) => correlation::read_correlations(&e, &inputs)?,
+            None => Correlations::default(),
+        };
         let (measurands, model) = self.model(chain.clone(), &inputs)?;
         if let Some((kind, _)) = chain.clone() {
             self.chain_cross_checks(kind, &inputs, &mut warnings)?;
         }
+        let trials = if adaptive.is_some() {
+            adaptive_batch_trials(coverage)
+        } else {
+            trials
+        };
         Ok(Study {
             file: self.src.file.to_string(),
             title,
@@ -221,8 +271,37 @@ impl<'a, 'i> Loader<'a, 'i> {
             measurands,
             chain: chain.map(|c| c.0),
             model,
+            correlations,
+            adaptive,
             warnings,
         })
+    }
+
+    fn adaptive(&self) -> Result<Option<Adaptive>, InputError> {
+        let Some(e) = self.top.get("adaptive") else {
+            return Ok(None);
+        };
+        let example = "[adaptive]\ndigits = 2";
+        let t = e.table(example)?;
+        t.check_keys(&["digits", "max_trials"], example)?;
+        if let Some(tr) = self.top.get("trials") {
+            return Err(tr.error(
+                "an adaptive run chooses its own number of trials: remove `trials` or remove [adaptive]",
+                example,
+            ));
+        }
+        if let Some(d) = self.top.get("digits") {
+            return Err(d.error(
+                "with [adaptive], give `digits` once, inside [adaptive]",
+                example,
+            ));
+        }
+        let digits = t.require("digits", example)?.whole(1, 6, "digits = 2")? as u32;
+        let max_trials = match t.get("max_trials") {
+            Some(m) => m.whole(MIN_TRIALS, MAX_TRIALS, "max_trials = 100_000_000")?,
+            None => DEFAULT_ADAPTIVE_MAX_TRIALS,
+        };
+        Ok(Some(Adaptive { digits, max_trials }))
     }
 
     fn coverage(&self) -> Result<f64, InputError> {

@@ -153,3 +153,6 @@ impl Scalar for f64 {
         f64::exp_m1(self)
     }
 }
+
+mod taylor;
+pub use taylor::Taylor2;

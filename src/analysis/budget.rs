@@ -1,0 +1,61 @@
+//! The uncertainty budget: each input's part in the law of propagation (JCGM 100:2008 7.2.5
+//! asks for the components u_i(y) = |c_i| u(x_i) to be reported).
+
+use super::lpu::MeasurandLpu;
+use crate::scenario::Study;
+
+/// One line of a budget (SI).
+#[derive(Clone, Debug, PartialEq)]
+pub struct BudgetRow {
+    /// Input index.
+    pub input: usize,
+    /// The input's estimate.
+    pub estimate: f64,
+    /// Its standard uncertainty u(x_i) as the law of propagation uses it.
+    pub standard_uncertainty: f64,
+    /// Sensitivity coefficient c_i.
+    pub sensitivity: f64,
+    /// Contribution |c_i| u(x_i), in the measurand's unit.
+    pub contribution: f64,
+    /// Share (c_i u(x_i))^2 / u_c^2 of the first-order variance (cross terms of correlated
+    /// inputs belong to no single input, so shares then need not sum to 1).
+    pub share: f64,
+    /// Degrees of freedom of u(x_i), when finite.
+    pub dof: Option<f64>,
+}
+
+/// The budget of one measurand: every input with an uncertainty, largest contribution first
+/// (ties in input order).
+pub fn budget(study: &Study, lpu: &MeasurandLpu) -> Vec<BudgetRow> {
+    let uc2 = lpu.standard_uncertainty.powi(2);
+    let mut rows: Vec<BudgetRow> = study
+        .inputs
+        .iter()
+        .enumerate()
+        .filter(|(_, q)| !q.is_constant())
+        .map(|(i, q)| {
+            let u = q.gum_standard_uncertainty();
+            let c = lpu.sensitivities[i];
+            let contribution = (c * u).abs();
+            BudgetRow {
+                input: i,
+                estimate: q.estimate(),
+                standard_uncertainty: u,
+                sensitivity: c,
+                contribution,
+                share: if uc2 > 0.0 {
+                    contribution * contribution / uc2
+                } else {
+                    0.0
+                },
+                dof: q.dof.filter(|d| d.is_finite()),
+            }
+        })
+        .collect();
+    rows.sort_by(|a, b| {
+        b.contribution
+            .total_cmp(&a.contribution)
+            .then(a.input.cmp(&b.input))
+    });
+    rows
+}
