@@ -22,8 +22,10 @@ fn pair(p: (f64, f64), k: f64) -> Value {
 fn sensitivity_unit(measurand: &str, input: &str) -> String {
     match (measurand.is_empty(), input.is_empty()) {
         (_, true) => measurand.to_string(),
+        (true, false) if input.contains(' ') || input.contains('/') => format!("1/({input})"),
         (true, false) => format!("1/{input}"),
-        (false, false) => format!("{measurand}/({input})"),
+        (false, false) if input.contains(' ') || input.contains('/') => format!("{measurand}/({input})"),
+        (false, false) => format!("{measurand}/{input}"),
     }
 }
 
