@@ -2,9 +2,11 @@
 //! stdout and stderr.
 
 use clap::{Parser, Subcommand, ValueEnum};
-use radforce::error::{Error, InputError};
+use radforce::analysis::Findings;
+use radforce::engine::sensitivity::BaseSampler;
+use radforce::error::{Error, InputError, RunError};
 use radforce::report::{self, Format};
-use radforce::run::{RunOptions, run_study};
+use radforce::run::{self, RankOptions, RunOptions};
 use radforce::scenario::{self, Study};
 use radforce::{engine, output};
 use std::io::Write;
@@ -13,7 +15,7 @@ use std::process::ExitCode;
 
 /// How precisely can you measure laser power by the force light exerts on a mirror?
 /// Monte Carlo propagation of distributions (JCGM 101:2008) through radiation-pressure and
-/// balance models.
+/// balance models, with the law of propagation of uncertainty (JCGM 100:2008) beside it.
 #[derive(Parser)]
 #[command(name = "radforce", version, about, long_about = None)]
 struct Cli {
@@ -25,6 +27,8 @@ struct Cli {
 enum Command {
     /// Propagate the input distributions of a scenario and report every measurand.
     Run(RunArgs),
+    /// Rank the inputs by their Sobol sensitivity indices.
+    Rank(RankArgs),
     /// Validate a scenario file without running it.
     Check {
         /// The scenario file (TOML).
@@ -48,13 +52,19 @@ enum FormatArg {
     Json,
 }
 
+#[derive(Clone, Copy, ValueEnum)]
+enum SamplerArg {
+    /// Independent pseudo-random base samples.
+    Random,
+    /// A scrambled Sobol low-discrepancy sequence (at most 65536 base rows).
+    Sobol,
+}
+
+/// The scenario and how to run it.
 #[derive(clap::Args)]
-struct RunArgs {
+struct StudyArgs {
     /// The scenario file (TOML).
     file: PathBuf,
-    /// Output format.
-    #[arg(long, value_enum, default_value = "text")]
-    format: FormatArg,
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     threads: Option<usize>,
@@ -67,15 +77,51 @@ struct RunArgs {
     /// Most memory the samples may take, e.g. 8GiB (default: half of this machine's memory).
     #[arg(long)]
     memory_budget: Option<String>,
+}
+
+/// Where and how the report goes.
+#[derive(clap::Args)]
+struct OutputArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value = "text")]
+    format: FormatArg,
     /// Write the report to this file instead of stdout.
     #[arg(short, long)]
     output: Option<PathBuf>,
-    /// Replace an existing output file.
+    /// Write the figures (SVG) into this folder.
+    #[arg(long)]
+    plots: Option<PathBuf>,
+    /// Replace existing output files.
     #[arg(long)]
     force: bool,
     /// Print no warnings on stderr.
     #[arg(short, long)]
     quiet: bool,
+}
+
+#[derive(clap::Args)]
+struct RunArgs {
+    #[command(flatten)]
+    study: StudyArgs,
+    #[command(flatten)]
+    out: OutputArgs,
+}
+
+#[derive(clap::Args)]
+struct RankArgs {
+    #[command(flatten)]
+    study: StudyArgs,
+    #[command(flatten)]
+    out: OutputArgs,
+    /// Base rows N of the sensitivity design (N (k + 2) model runs).
+    #[arg(long, default_value_t = run::DEFAULT_BASE_ROWS)]
+    base_trials: usize,
+    /// How the base samples are drawn.
+    #[arg(long, value_enum, default_value = "random")]
+    sampler: SamplerArg,
+    /// Bootstrap resamples for the confidence intervals.
+    #[arg(long, default_value_t = run::DEFAULT_REPLICATES)]
+    replicates: usize,
 }
 
 fn command_line_error(key: &str, message: impl Into<String>, example: &str) -> Error {
@@ -89,7 +135,9 @@ fn command_line_error(key: &str, message: impl Into<String>, example: &str) -> E
     .into()
 }
 
-fn apply_overrides(study: &mut Study, args: &RunArgs) -> Result<(), Error> {
+/// Load the scenario and apply the command-line overrides.
+fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
+    let mut study = scenario::load_file(&args.file)?;
     if let Some(m) = args.trials {
         if !(scenario::MIN_TRIALS..=scenario::MAX_TRIALS).contains(&m) {
             return Err(command_line_error(
@@ -123,22 +171,7 @@ fn apply_overrides(study: &mut Study, args: &RunArgs) -> Result<(), Error> {
             "--threads 2",
         ));
     }
-    Ok(())
-}
-
-fn write_stdout(bytes: &[u8]) {
-    let mut out = std::io::stdout().lock();
-    // A closed pipe (`| head`) is not an error of the run.
-    let _ = out.write_all(bytes).and_then(|()| out.flush());
-}
-
-fn run(args: &RunArgs) -> Result<(), Error> {
-    let mut study = scenario::load_file(&args.file)?;
-    apply_overrides(&mut study, args)?;
-    if let Some(path) = &args.output {
-        output::check_writable(path, args.force)?;
-    }
-    let budget = match &args.memory_budget {
+    let memory_budget = match &args.memory_budget {
         Some(text) => engine::memory::parse_bytes(text).ok_or_else(|| {
             command_line_error(
                 "--memory-budget",
@@ -149,44 +182,124 @@ fn run(args: &RunArgs) -> Result<(), Error> {
         None => engine::memory::default_budget(),
     };
     let options = RunOptions {
-        memory_budget: budget,
+        memory_budget,
         keep_inputs: false,
     };
-    radforce::run::check_memory(&study, &options)?;
-    if !args.quiet {
-        for w in &study.warnings {
-            eprintln!("warning: {w}");
-        }
+    Ok((study, options))
+}
+
+fn write_stdout(bytes: &[u8]) {
+    let mut out = std::io::stdout().lock();
+    // A closed pipe (`| head`) is not an error of the run.
+    let _ = out.write_all(bytes).and_then(|()| out.flush());
+}
+
+/// Refuse before any work what could not be written afterwards.
+fn check_outputs(out: &OutputArgs) -> Result<(), Error> {
+    if let Some(path) = &out.output {
+        output::check_writable(path, out.force)?;
     }
-    let (findings, _samples) = engine::with_threads(args.threads, || run_study(&study, &options))??;
-    let format = match args.format {
+    if let Some(dir) = &out.plots
+        && dir.exists()
+        && !dir.is_dir()
+    {
+        return Err(
+            InputError::file(dir.display().to_string(), "exists and is not a folder")
+                .with_example("--plots figures")
+                .into(),
+        );
+    }
+    Ok(())
+}
+
+/// Write the report and the figures.
+fn deliver(findings: &Findings, out: &OutputArgs) -> Result<(), Error> {
+    let format = match out.format {
         FormatArg::Text => Format::Text,
         FormatArg::Json => Format::Json,
     };
     if format == Format::Json {
-        report::json::check_numbers(&report::json::report_value(&findings), "")
-            .map_err(|m| Error::Run(radforce::error::RunError::Numerical(m)))?;
+        report::json::check_numbers(&report::json::report_value(findings), "")
+            .map_err(|m| Error::Run(RunError::Numerical(m)))?;
     }
-    let bytes = report::exporter(format).render(&findings);
-    match &args.output {
-        Some(path) => output::write_atomic(path, &bytes, args.force)?,
+    if let Some(dir) = &out.plots {
+        let figures =
+            report::plots::figures(findings).map_err(|m| Error::Run(RunError::Numerical(m)))?;
+        std::fs::create_dir_all(dir).map_err(|e| RunError::Output {
+            path: dir.display().to_string(),
+            message: e.to_string(),
+        })?;
+        for (name, bytes) in &figures {
+            output::write_atomic(&dir.join(name), bytes, out.force)?;
+        }
+    }
+    let bytes = report::exporter(format).render(findings);
+    match &out.output {
+        Some(path) => output::write_atomic(path, &bytes, out.force)?,
         None => write_stdout(&bytes),
     }
     Ok(())
+}
+
+fn warn(study: &Study, quiet: bool) {
+    if !quiet {
+        for w in &study.warnings {
+            eprintln!("warning: {w}");
+        }
+    }
+}
+
+fn run_command(args: &RunArgs) -> Result<(), Error> {
+    let (study, options) = load(&args.study)?;
+    check_outputs(&args.out)?;
+    run::check_memory(&study, &options)?;
+    warn(&study, args.out.quiet);
+    let (findings, _) =
+        engine::with_threads(args.study.threads, || run::run_study(&study, &options))??;
+    deliver(&findings, &args.out)
+}
+
+fn rank_command(args: &RankArgs) -> Result<(), Error> {
+    let (study, options) = load(&args.study)?;
+    check_outputs(&args.out)?;
+    let rank = RankOptions {
+        base_rows: args.base_trials,
+        sampler: match args.sampler {
+            SamplerArg::Random => BaseSampler::Random,
+            SamplerArg::Sobol => BaseSampler::Sobol,
+        },
+        replicates: args.replicates,
+    };
+    run::check_rank(&study, &rank)?;
+    run::check_memory(
+        &study,
+        &RunOptions {
+            keep_inputs: true,
+            ..options
+        },
+    )?;
+    warn(&study, args.out.quiet);
+    let findings = engine::with_threads(args.study.threads, || {
+        run::rank_study(&study, &options, &rank)
+    })??;
+    deliver(&findings, &args.out)
 }
 
 fn check(file: &Path) -> Result<(), Error> {
     let study = scenario::load_file(file)?;
     let names: Vec<&str> = study.measurands.iter().map(|m| m.name.as_str()).collect();
     let mut text = format!(
-        "{}: valid. {} input quantities, measurands: {}{}; M = {} trials, seed {}, coverage {}\n",
+        "{}: valid. {} input quantities, measurands: {}{}; {}, seed {}, coverage {}\n",
         study.file,
         study.inputs.len(),
         names.join(", "),
         study
             .chain
             .map_or(String::new(), |c| format!(" (chain {})", c.spec().name)),
-        study.trials,
+        match study.adaptive {
+            Some(a) => format!("adaptive to {} significant digits", a.digits),
+            None => format!("M = {} trials", study.trials),
+        },
         study.seed,
         study.coverage
     );
@@ -225,7 +338,8 @@ fn new_scenario(name: &str, force: bool) -> Result<(), Error> {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
-        Command::Run(args) => run(args),
+        Command::Run(args) => run_command(args),
+        Command::Rank(args) => rank_command(args),
         Command::Check { file } => check(file),
         Command::New { name, force } => new_scenario(name, *force),
     };

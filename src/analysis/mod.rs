@@ -6,6 +6,7 @@ pub mod budget;
 pub mod intervals;
 pub mod lpu;
 pub mod moments;
+pub mod sensitivity;
 pub mod summary;
 pub mod validation;
 
@@ -111,6 +112,48 @@ pub struct AdaptiveFinding {
     pub converged: bool,
 }
 
+/// One factor's line in a sensitivity ranking.
+#[derive(Clone, Debug)]
+pub struct SensitivityRow {
+    /// The input's name, or the names of a correlated group joined by "+".
+    pub name: String,
+    /// The indices and their intervals.
+    pub indices: sensitivity::FactorIndices,
+    /// Spearman rank correlation of the input with the measurand in the ordinary run (single
+    /// inputs only).
+    pub spearman: Option<f64>,
+    /// The input's share of the first-order LPU variance (summed over a group's members).
+    pub lpu_share: Option<f64>,
+    /// Whether ST - S1 exceeds [`sensitivity::INTERACTION_GAP`].
+    pub interaction: bool,
+}
+
+/// How a sensitivity analysis was made.
+#[derive(Clone, Debug)]
+pub struct SensitivityMethod {
+    /// Base rows N.
+    pub base_rows: usize,
+    /// Number of factors k.
+    pub factors: usize,
+    /// "random" or "sobol".
+    pub sampler: &'static str,
+    /// Bootstrap replicates.
+    pub replicates: usize,
+    /// Confidence level of the intervals.
+    pub confidence: f64,
+    /// Whether some factors are correlated groups.
+    pub grouped: bool,
+}
+
+/// The sensitivity ranking of every measurand.
+#[derive(Clone, Debug)]
+pub struct SensitivityFinding {
+    /// How it was made.
+    pub method: SensitivityMethod,
+    /// Per measurand (report order), rows ranked by total index.
+    pub measurands: Vec<Vec<SensitivityRow>>,
+}
+
 /// Everything a report shows.
 #[derive(Clone, Debug)]
 pub struct Findings {
@@ -144,6 +187,8 @@ pub struct Findings {
     pub correlation: Option<MeasurandCorrelation>,
     /// The adaptive procedure, when used.
     pub adaptive: Option<AdaptiveFinding>,
+    /// The sensitivity ranking, from `radforce rank`.
+    pub sensitivity: Option<SensitivityFinding>,
     /// Warnings from loading and running.
     pub warnings: Vec<String>,
 }
@@ -292,6 +337,79 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
         input_correlations,
         correlation,
         adaptive: adaptive_finding,
+        sensitivity: None,
         warnings,
     }
+}
+
+/// Build the sensitivity ranking from a design's runs and an ordinary run that kept its input
+/// columns (for Spearman's correlation).
+pub fn sensitivity_finding(
+    study: &Study,
+    findings: &Findings,
+    runs: &crate::engine::sensitivity::DesignRuns,
+    samples: &Samples,
+    method: SensitivityMethod,
+    seed: u64,
+) -> SensitivityFinding {
+    let input_ranks: Vec<Option<Vec<f64>>> = match &samples.inputs {
+        Some(cols) => {
+            let varying: Vec<&[f64]> = cols
+                .iter()
+                .zip(&study.inputs)
+                .filter(|(_, q)| !q.is_constant())
+                .map(|(c, _)| c.as_slice())
+                .collect();
+            let mut ranked = sensitivity::rank_columns(&varying).into_iter();
+            study
+                .inputs
+                .iter()
+                .map(|q| if q.is_constant() { None } else { ranked.next() })
+                .collect()
+        }
+        None => vec![None; study.inputs.len()],
+    };
+    let meas_cols: Vec<&[f64]> = samples.measurands.iter().map(Vec::as_slice).collect();
+    let meas_ranks = sensitivity::rank_columns(&meas_cols);
+    let measurands = (0..study.measurands.len())
+        .map(|m| {
+            let mut rows: Vec<SensitivityRow> =
+                sensitivity::indices(runs, m, method.confidence, method.replicates, seed)
+                    .into_iter()
+                    .map(|ix| {
+                        let name = ix
+                            .members
+                            .iter()
+                            .map(|i| study.inputs[*i].name.as_str())
+                            .collect::<Vec<_>>()
+                            .join("+");
+                        let spearman = match ix.members.as_slice() {
+                            [i] => input_ranks[*i]
+                                .as_ref()
+                                .and_then(|r| sensitivity::spearman_ranked(r, &meas_ranks[m])),
+                            _ => None,
+                        };
+                        let lpu_share = (!findings.measurands[m].budget.is_empty()).then(|| {
+                            findings.measurands[m]
+                                .budget
+                                .iter()
+                                .filter(|b| ix.members.contains(&b.input))
+                                .map(|b| b.share)
+                                .sum()
+                        });
+                        let interaction = ix.total - ix.first_order > sensitivity::INTERACTION_GAP;
+                        SensitivityRow {
+                            name,
+                            indices: ix,
+                            spearman,
+                            lpu_share,
+                            interaction,
+                        }
+                    })
+                    .collect();
+            rows.sort_by(|a, b| b.indices.total.total_cmp(&a.indices.total));
+            rows
+        })
+        .collect();
+    SensitivityFinding { method, measurands }
 }

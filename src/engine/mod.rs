@@ -9,6 +9,7 @@
 pub mod adaptive;
 pub mod memory;
 pub mod sampling;
+pub mod sensitivity;
 pub mod stream;
 
 use crate::analysis::moments::{CoMoments, Moments};

@@ -90,6 +90,62 @@ pub fn fill_inputs<R: Rng + ?Sized>(
     }
 }
 
+/// Fill the input columns of a block from probabilities instead of a random stream (inverse-CDF
+/// sampling, for quasi-random designs): `uniform(i, t)` gives the probability in (0, 1) of input
+/// i in row t of the block. Independent inputs take `quantile(u)`; a correlated group takes
+/// z = Phi^-1(u), x = L z, then its marginals as in [`fill_inputs`].
+pub fn fill_inputs_from_uniforms(
+    study: &Study,
+    steps: &[FillStep],
+    uniform: &dyn Fn(usize, usize) -> f64,
+    work: &mut [f64],
+    stride: usize,
+    n: usize,
+) {
+    for step in steps {
+        match *step {
+            FillStep::Single(i) => {
+                let col = &mut work[i * stride..i * stride + n];
+                match &study.inputs[i].law {
+                    Law::Constant(v) => col.fill(*v),
+                    Law::Distributed(d) => {
+                        for (t, x) in col.iter_mut().enumerate() {
+                            *x = d.quantile(uniform(i, t).clamp(P_MIN, P_MAX));
+                        }
+                    }
+                }
+            }
+            FillStep::Group(g) => {
+                let group = &study.correlations.groups[g];
+                let m = group.members.len();
+                for &i in &group.members {
+                    for t in 0..n {
+                        work[i * stride + t] = crate::dist::special::std_normal_quantile(
+                            uniform(i, t).clamp(P_MIN, P_MAX),
+                        );
+                    }
+                }
+                let l = &group.cholesky;
+                for t in 0..n {
+                    for r in (0..m).rev() {
+                        let mut acc = 0.0;
+                        for c in 0..=r {
+                            acc += l[r * m + c] * work[group.members[c] * stride + t];
+                        }
+                        work[group.members[r] * stride + t] = acc;
+                    }
+                }
+                for &i in &group.members {
+                    let col = &mut work[i * stride..i * stride + n];
+                    if let Law::Distributed(d) = &study.inputs[i].law {
+                        marginal(d, col);
+                    }
+                }
+            }
+        }
+    }
+}
+
 /// Map correlated standard normal scores to the input's own distribution.
 fn marginal(d: &Distribution, col: &mut [f64]) {
     match d {

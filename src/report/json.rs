@@ -24,7 +24,9 @@ fn sensitivity_unit(measurand: &str, input: &str) -> String {
         (_, true) => measurand.to_string(),
         (true, false) if input.contains(' ') || input.contains('/') => format!("1/({input})"),
         (true, false) => format!("1/{input}"),
-        (false, false) if input.contains(' ') || input.contains('/') => format!("{measurand}/({input})"),
+        (false, false) if input.contains(' ') || input.contains('/') => {
+            format!("{measurand}/({input})")
+        }
         (false, false) => format!("{measurand}/{input}"),
     }
 }
@@ -92,9 +94,42 @@ fn measurand_value(f: &Findings, m: &MeasurandFinding) -> Value {
     })
 }
 
+fn sensitivity_rows(f: &Findings, m: usize) -> Option<Value> {
+    let s = f.sensitivity.as_ref()?;
+    let rows: Vec<Value> = s.measurands[m]
+        .iter()
+        .map(|r| {
+            let ix = &r.indices;
+            json!({
+                "input": r.name,
+                "members": ix.members.iter().map(|i| f.inputs[*i].name.clone()).collect::<Vec<_>>(),
+                "first_order": num(ix.first_order),
+                "first_order_interval": pair(ix.first_order_interval, 1.0),
+                "total": num(ix.total),
+                "total_interval": pair(ix.total_interval, 1.0),
+                "spearman": r.spearman.map_or(Value::Null, num),
+                "lpu_share": r.lpu_share.map_or(Value::Null, num),
+                "interaction": r.interaction,
+            })
+        })
+        .collect();
+    Some(Value::Array(rows))
+}
+
 /// Build the report object.
 pub fn report_value(f: &Findings) -> Value {
-    let measurands: Vec<Value> = f.measurands.iter().map(|m| measurand_value(f, m)).collect();
+    let measurands: Vec<Value> = f
+        .measurands
+        .iter()
+        .enumerate()
+        .map(|(i, m)| {
+            let mut v = measurand_value(f, m);
+            if let (Some(rows), Value::Object(o)) = (sensitivity_rows(f, i), &mut v) {
+                o.insert("sensitivity".into(), rows);
+            }
+            v
+        })
+        .collect();
     let inputs: Vec<Value> = f
         .inputs
         .iter()
@@ -128,7 +163,7 @@ pub fn report_value(f: &Findings) -> Value {
     let adaptive = f.adaptive.as_ref().map_or(Value::Null, |a| {
         json!({"digits": a.digits, "batch_trials": a.batch_trials, "batches": a.batches, "converged": a.converged})
     });
-    json!({
+    let mut out = json!({
         "title": f.title,
         "trials": f.trials,
         "seed": f.seed,
@@ -148,7 +183,25 @@ pub fn report_value(f: &Findings) -> Value {
         "input_correlations": input_correlations,
         "warnings": f.warnings,
         "cautions": cautions(f.laser),
-    })
+    });
+    if let (Some(s), Value::Object(o)) = (&f.sensitivity, &mut out) {
+        let m = &s.method;
+        o.insert(
+            "sensitivity_method".into(),
+            json!({
+                "first_order": "Saltelli et al. 2010, Table 2 (b)",
+                "total": "Jansen 1999",
+                "base_rows": m.base_rows,
+                "factors": m.factors,
+                "model_runs": m.base_rows * (m.factors + 2),
+                "sampler": m.sampler,
+                "bootstrap_replicates": m.replicates,
+                "confidence": num(m.confidence),
+                "grouped_correlated_inputs": m.grouped,
+            }),
+        );
+    }
+    out
 }
 
 /// Fields that may be null; anything else must be a finite number.
@@ -167,6 +220,8 @@ const NULLABLE: &[&str] = &[
     "achieved",
     "adaptive",
     "correlation",
+    "spearman",
+    "lpu_share",
 ];
 
 /// Check that no number was lost: every null sits in a nullable field.

@@ -4,6 +4,7 @@
 pub mod cautions;
 pub mod format;
 pub mod json;
+pub mod plots;
 pub mod table;
 pub mod text;
 

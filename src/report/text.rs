@@ -93,6 +93,7 @@ impl Exporter for TextReport {
         }
 
         lpu_section(&mut out, f);
+        sensitivity_section(&mut out, f);
         for m in &f.measurands {
             budget_section(&mut out, f, m);
         }
@@ -324,4 +325,64 @@ fn correlation_section(out: &mut String, f: &Findings) {
         t.row(row);
     }
     out.push_str(&t.render());
+}
+
+/// The sensitivity ranking of every measurand.
+fn sensitivity_section(out: &mut String, f: &Findings) {
+    let Some(s) = &f.sensitivity else { return };
+    let m = &s.method;
+    let p = percent(m.confidence);
+    out.push_str(&format!(
+        "\nSensitivity ranking: Sobol indices, first order by Saltelli et al. (2010), total by Jansen (1999); N = {} base rows, {} model runs, {} base sample; {p} bootstrap intervals ({} resamples)\n",
+        grouped(m.base_rows as u64),
+        grouped((m.base_rows * (m.factors + 2)) as u64),
+        if m.sampler == "sobol" { "quasi-random (scrambled Sobol)" } else { "pseudo-random" },
+        m.replicates
+    ));
+    if m.grouped {
+        out.push_str("Correlated inputs break the independence the indices assume: each correlated group is ranked as one factor (grouped indices).\n");
+    }
+    for (mi, rows) in s.measurands.iter().enumerate() {
+        let meas = &f.measurands[mi];
+        out.push_str(&format!("{}:\n", meas.name));
+        let mut t = TextTable::new(
+            &[
+                "rank",
+                "input",
+                "first order",
+                &format!("{p} interval"),
+                "total",
+                &format!("{p} interval"),
+                "",
+                "LPU share",
+                "Spearman",
+            ],
+            &[true, false, true, false, true, false, false, true, true],
+        );
+        for (r, row) in rows.iter().enumerate() {
+            let ix = &row.indices;
+            let iv = |(a, b): (f64, f64)| format!("[{a:.3}, {b:.3}]");
+            t.row(vec![
+                format!("{}", r + 1),
+                row.name.clone(),
+                format!("{:.3}", ix.first_order),
+                iv(ix.first_order_interval),
+                format!("{:.3}", ix.total),
+                iv(ix.total_interval),
+                if row.interaction {
+                    "interaction".into()
+                } else {
+                    String::new()
+                },
+                row.lpu_share
+                    .map_or("-".into(), |x| format!("{:.1} %", 100.0 * x)),
+                row.spearman.map_or("-".into(), |x| format!("{x:+.3}")),
+            ]);
+        }
+        out.push_str(&t.render());
+    }
+    out.push_str(&format!(
+        "\"interaction\": the total index exceeds the first-order one by more than {} (variance that the input shares with others).\n",
+        crate::analysis::sensitivity::INTERACTION_GAP
+    ));
 }

@@ -280,13 +280,17 @@ impl Scalar for Taylor2 {
     fn powi(self, n: i32) -> Self {
         let x = self.c[0];
         let m = f64::from(n);
-        let p = |k: i32| if n - k == 0 { 1.0 } else { x.powi(n - k) };
-        self.compose(
-            x.powi(n),
-            m * p(1),
-            m * (m - 1.0) * p(2),
-            m * (m - 1.0) * (m - 2.0) * p(3),
-        )
+        // k-th derivative: n (n-1) ... (n-k+1) x^(n-k), zero once the falling factorial is
+        // (so x^2 at 0 has no 0 * infinity in its third derivative).
+        let d = |k: i32| {
+            let falling: f64 = (0..k).map(|j| m - f64::from(j)).product();
+            if falling == 0.0 {
+                0.0
+            } else {
+                falling * x.powi(n - k)
+            }
+        };
+        self.compose(x.powi(n), d(1), d(2), d(3))
     }
 }
 
@@ -301,6 +305,18 @@ mod tests {
     }
 
     // Analytic derivatives of f (calc by hand).
+    // Integer powers at zero: x^2 has derivatives 0, 2, 0 (no 0 * infinity from x^-1).
+    #[test]
+    fn integer_powers_at_zero() {
+        let r = Taylor2::seeded(0.0, true, true).powi(2);
+        assert_eq!(
+            (r.value(), r.d_s(), r.d_st(), r.d_stt()),
+            (0.0, 0.0, 2.0, 0.0)
+        );
+        let r = Taylor2::seeded(0.0, true, true).powi(3);
+        assert_eq!((r.d_s(), r.d_st(), r.d_stt()), (0.0, 0.0, 6.0));
+    }
+
     #[test]
     fn mixed_derivatives_are_exact() {
         let (x0, y0) = (0.7, 1.3);
@@ -361,6 +377,7 @@ mod tests {
             ("atan", |x| x.atan(), f64::atan),
             ("expm1", |x| x.exp_m1(), f64::exp_m1),
             ("powi", |x| x.powi(-3), |x| x.powi(-3)),
+            ("powi2", |x| x.powi(2), |x| x.powi(2)),
             ("powf", |x| x.powf(Taylor2::cst(2.5)), |x| x.powf(2.5)),
             (
                 "div",
