@@ -3,6 +3,7 @@
 
 use clap::{Parser, Subcommand, ValueEnum};
 use radforce::analysis::Findings;
+use radforce::analysis::planning::{Comparison, PlanFinding, TargetSpec};
 use radforce::engine::sensitivity::BaseSampler;
 use radforce::error::{Error, InputError, RunError};
 use radforce::report::{self, Format};
@@ -29,6 +30,10 @@ enum Command {
     Run(RunArgs),
     /// Rank the inputs by their Sobol sensitivity indices.
     Rank(RankArgs),
+    /// Compare designs (files, and the [variants] of a file) side by side, paired.
+    Compare(CompareArgs),
+    /// Find what must improve to reach a target uncertainty, and check it by Monte Carlo.
+    Plan(PlanArgs),
     /// Validate a scenario file without running it.
     Check {
         /// The scenario file (TOML).
@@ -50,6 +55,16 @@ enum FormatArg {
     Text,
     /// The JSON report (a stable contract).
     Json,
+    /// A proposal-ready report: plain-words summary, tables, figures, method, cautions.
+    Markdown,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum UncertaintyArg {
+    /// The expanded uncertainty at the scenario's coverage probability.
+    Expanded,
+    /// The standard uncertainty.
+    Standard,
 }
 
 #[derive(Clone, Copy, ValueEnum)]
@@ -124,6 +139,47 @@ struct RankArgs {
     replicates: usize,
 }
 
+#[derive(clap::Args)]
+struct CompareArgs {
+    /// Scenario files; a file with [variants.NAME] tables adds one design per variant.
+    #[arg(required = true)]
+    files: Vec<PathBuf>,
+    /// The measurand to compare (default: the first of the first design).
+    #[arg(long)]
+    measurand: Option<String>,
+    /// Worker threads (default: all cores).
+    #[arg(long)]
+    threads: Option<usize>,
+    /// Trials for every design (default: the first design's).
+    #[arg(long)]
+    trials: Option<u64>,
+    /// Seed for every design (default: the first design's).
+    #[arg(long)]
+    seed: Option<u64>,
+    /// Most memory the samples of one design may take, e.g. 8GiB.
+    #[arg(long)]
+    memory_budget: Option<String>,
+    #[command(flatten)]
+    out: OutputArgs,
+}
+
+#[derive(clap::Args)]
+struct PlanArgs {
+    #[command(flatten)]
+    study: StudyArgs,
+    #[command(flatten)]
+    out: OutputArgs,
+    /// The target: relative ("0.1%", "500 ppm") or absolute in the measurand's unit ("0.02 W").
+    #[arg(long)]
+    target: String,
+    /// Whether the target is an expanded or a standard uncertainty.
+    #[arg(long, value_enum, default_value = "expanded")]
+    uncertainty: UncertaintyArg,
+    /// The measurand (required when the scenario has several).
+    #[arg(long)]
+    measurand: Option<String>,
+}
+
 fn command_line_error(key: &str, message: impl Into<String>, example: &str) -> Error {
     InputError {
         file: "command line".into(),
@@ -135,10 +191,22 @@ fn command_line_error(key: &str, message: impl Into<String>, example: &str) -> E
     .into()
 }
 
-/// Load the scenario and apply the command-line overrides.
-fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
-    let mut study = scenario::load_file(&args.file)?;
-    if let Some(m) = args.trials {
+fn parse_budget(text: &Option<String>) -> Result<u64, Error> {
+    match text {
+        Some(text) => engine::memory::parse_bytes(text).ok_or_else(|| {
+            command_line_error(
+                "--memory-budget",
+                format!("cannot read {text:?} as a size"),
+                "--memory-budget 8GiB",
+            )
+        }),
+        None => Ok(engine::memory::default_budget()),
+    }
+}
+
+/// Apply `--trials` and `--seed` to a study.
+fn override_study(study: &mut Study, trials: Option<u64>, seed: Option<u64>) -> Result<(), Error> {
+    if let Some(m) = trials {
         if !(scenario::MIN_TRIALS..=scenario::MAX_TRIALS).contains(&m) {
             return Err(command_line_error(
                 "--trials",
@@ -161,28 +229,30 @@ fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
         study.trials = m;
         study.adaptive = None;
     }
-    if let Some(s) = args.seed {
+    if let Some(s) = seed {
         study.seed = s;
     }
-    if let Some(0) = args.threads {
+    Ok(())
+}
+
+fn check_threads(threads: Option<usize>) -> Result<(), Error> {
+    if let Some(0) = threads {
         return Err(command_line_error(
             "--threads",
             "needs at least 1 thread",
             "--threads 2",
         ));
     }
-    let memory_budget = match &args.memory_budget {
-        Some(text) => engine::memory::parse_bytes(text).ok_or_else(|| {
-            command_line_error(
-                "--memory-budget",
-                format!("cannot read {text:?} as a size"),
-                "--memory-budget 8GiB",
-            )
-        })?,
-        None => engine::memory::default_budget(),
-    };
+    Ok(())
+}
+
+/// Load the scenario and apply the command-line overrides.
+fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
+    let mut study = scenario::load_file(&args.file)?;
+    override_study(&mut study, args.trials, args.seed)?;
+    check_threads(args.threads)?;
     let options = RunOptions {
-        memory_budget,
+        memory_budget: parse_budget(&args.memory_budget)?,
         keep_inputs: false,
     };
     Ok((study, options))
@@ -212,28 +282,53 @@ fn check_outputs(out: &OutputArgs) -> Result<(), Error> {
     Ok(())
 }
 
+/// What a command reports.
+enum Report<'a> {
+    Run(&'a Findings),
+    Compare(&'a Comparison),
+    Plan(&'a PlanFinding),
+}
+
+fn numerical(m: String) -> Error {
+    Error::Run(RunError::Numerical(m))
+}
+
 /// Write the report and the figures.
-fn deliver(findings: &Findings, out: &OutputArgs) -> Result<(), Error> {
+fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<(), Error> {
     let format = match out.format {
         FormatArg::Text => Format::Text,
         FormatArg::Json => Format::Json,
+        FormatArg::Markdown => Format::Markdown,
     };
     if format == Format::Json {
-        report::json::check_numbers(&report::json::report_value(findings), "")
-            .map_err(|m| Error::Run(RunError::Numerical(m)))?;
+        let value = match &report {
+            Report::Run(f) => report::json::report_value(f),
+            Report::Compare(c) => report::json::comparison_value(c),
+            Report::Plan(p) => report::json::plan_value(p),
+        };
+        report::json::check_numbers(&value, "").map_err(numerical)?;
     }
     if let Some(dir) = &out.plots {
-        let figures =
-            report::plots::figures(findings).map_err(|m| Error::Run(RunError::Numerical(m)))?;
+        let figures = match &report {
+            Report::Run(f) => report::plots::figures(f),
+            Report::Compare(c) => report::plots::comparison_figures(c),
+            Report::Plan(p) => report::plots::figures(&p.verification),
+        }
+        .map_err(numerical)?;
         std::fs::create_dir_all(dir).map_err(|e| RunError::Output {
             path: dir.display().to_string(),
             message: e.to_string(),
         })?;
-        for (name, bytes) in &figures {
-            output::write_atomic(&dir.join(name), bytes, out.force)?;
+        for figure in &figures {
+            output::write_atomic(&dir.join(&figure.file), figure.svg.as_bytes(), out.force)?;
         }
     }
-    let bytes = report::exporter(format).render(findings);
+    let exporter = report::exporter(format, out.plots.as_ref().map(|d| d.display().to_string()));
+    let bytes = match report {
+        Report::Run(f) => exporter.render(f),
+        Report::Compare(c) => exporter.comparison(c),
+        Report::Plan(p) => exporter.plan(p),
+    };
     match &out.output {
         Some(path) => output::write_atomic(path, &bytes, out.force)?,
         None => write_stdout(&bytes),
@@ -254,9 +349,9 @@ fn run_command(args: &RunArgs) -> Result<(), Error> {
     check_outputs(&args.out)?;
     run::check_memory(&study, &options)?;
     warn(&study, args.out.quiet);
-    let (findings, _) =
-        engine::with_threads(args.study.threads, || run::run_study(&study, &options))??;
-    deliver(&findings, &args.out)
+    let findings =
+        engine::with_threads(args.study.threads, || run::sweep_study(&study, &options))??;
+    deliver(Report::Run(&findings), &args.out)
 }
 
 fn rank_command(args: &RankArgs) -> Result<(), Error> {
@@ -282,7 +377,124 @@ fn rank_command(args: &RankArgs) -> Result<(), Error> {
     let findings = engine::with_threads(args.study.threads, || {
         run::rank_study(&study, &options, &rank)
     })??;
-    deliver(&findings, &args.out)
+    deliver(Report::Run(&findings), &args.out)
+}
+
+fn compare_command(args: &CompareArgs) -> Result<(), Error> {
+    check_threads(args.threads)?;
+    check_outputs(&args.out)?;
+    let mut designs = Vec::new();
+    for file in &args.files {
+        designs.extend(scenario::load_designs(file)?);
+    }
+    if let Some((_, first)) = designs.first_mut() {
+        override_study(first, args.trials, args.seed)?;
+    }
+    let options = RunOptions {
+        memory_budget: parse_budget(&args.memory_budget)?,
+        keep_inputs: false,
+    };
+    for (_, s) in &designs {
+        warn(s, args.out.quiet);
+    }
+    let comparison = engine::with_threads(args.threads, || {
+        run::compare_designs(&designs, &options, args.measurand.as_deref())
+    })??;
+    deliver(Report::Compare(&comparison), &args.out)
+}
+
+/// Read `--target`: a percentage or ppm is relative; a quantity needs the measurand's dimension;
+/// a bare number is in the measurand's reporting unit.
+fn parse_target(study: &Study, m: usize, text: &str, expanded: bool) -> Result<TargetSpec, Error> {
+    let example = "--target 0.1%   or   --target \"0.02 W\"";
+    let q = radforce::units::parse_quantity(text).map_err(|e| {
+        command_line_error("--target", format!("cannot read {text:?}: {e}"), example)
+    })?;
+    let meas = &study.measurands[m];
+    let (value, relative) = match &q.unit {
+        Some(u)
+            if u.dimension == radforce::units::Dimension::NONE
+                && (u.text == "%" || u.text == "ppm") =>
+        {
+            (q.si, true)
+        }
+        Some(u) => {
+            if let Some(d) = meas.dimension
+                && d != u.dimension
+            {
+                return Err(command_line_error(
+                    "--target",
+                    format!(
+                        "`{}` is {}, but {text:?} is {}",
+                        meas.name,
+                        d.kind(),
+                        u.dimension.kind()
+                    ),
+                    example,
+                ));
+            }
+            (q.si, false)
+        }
+        None => (q.si * study.reporting_factor(m), false),
+    };
+    if value.is_nan() || value <= 0.0 {
+        return Err(command_line_error(
+            "--target",
+            "the target must be greater than 0",
+            example,
+        ));
+    }
+    Ok(TargetSpec {
+        value,
+        relative,
+        expanded,
+    })
+}
+
+fn plan_command(args: &PlanArgs) -> Result<(), Error> {
+    let (study, options) = load(&args.study)?;
+    check_outputs(&args.out)?;
+    let m = match &args.measurand {
+        Some(name) => study
+            .measurands
+            .iter()
+            .position(|x| &x.name == name)
+            .ok_or_else(|| {
+                command_line_error(
+                    "--measurand",
+                    format!(
+                        "no measurand `{name}` (the scenario has: {})",
+                        study
+                            .measurands
+                            .iter()
+                            .map(|x| x.name.as_str())
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                    "--measurand power",
+                )
+            })?,
+        None if study.chain.is_some() || study.measurands.len() == 1 => 0,
+        None => {
+            return Err(command_line_error(
+                "--measurand",
+                "the scenario has several measurands: name the one to plan for",
+                "--measurand power",
+            ));
+        }
+    };
+    let spec = parse_target(
+        &study,
+        m,
+        &args.target,
+        matches!(args.uncertainty, UncertaintyArg::Expanded),
+    )?;
+    run::check_memory(&study, &options)?;
+    warn(&study, args.out.quiet);
+    let plan = engine::with_threads(args.study.threads, || {
+        run::plan_study(&study, &options, spec, m)
+    })??;
+    deliver(Report::Plan(&plan), &args.out)
 }
 
 fn check(file: &Path) -> Result<(), Error> {
@@ -340,6 +552,8 @@ fn main() -> ExitCode {
     let result = match &cli.command {
         Command::Run(args) => run_command(args),
         Command::Rank(args) => rank_command(args),
+        Command::Compare(args) => compare_command(args),
+        Command::Plan(args) => plan_command(args),
         Command::Check { file } => check(file),
         Command::New { name, force } => new_scenario(name, *force),
     };

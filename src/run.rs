@@ -1,11 +1,14 @@
 //! One study from start to finish: the trials (a fixed number, or the adaptive procedure), then
 //! the findings. Shared by the command line and by programs that use the library.
 
+use crate::analysis::planning::{
+    self, Comparison, PlanFinding, Proposal, SweepFinding, SweepPoint, TargetSpec,
+};
 use crate::analysis::{self, Findings, SensitivityMethod};
 use crate::engine::sensitivity::{self, BaseSampler, MAX_SOBOL_DIMENSIONS, MAX_SOBOL_ROWS};
 use crate::engine::{self, Plan, Samples, adaptive};
 use crate::error::{Error, InputError};
-use crate::scenario::Study;
+use crate::scenario::{Law, Study};
 
 /// How to run a study.
 #[derive(Clone, Copy, Debug)]
@@ -190,4 +193,171 @@ pub fn run_study(study: &Study, options: &RunOptions) -> Result<(Findings, Sampl
             Ok((findings, run.samples))
         }
     }
+}
+
+/// Run the study and then every point of its `[sweep]` (the same seed and trials throughout);
+/// the pool and the parsed study are reused, nothing is read again.
+pub fn sweep_study(study: &Study, options: &RunOptions) -> Result<Findings, Error> {
+    let (mut findings, _) = run_study(study, options)?;
+    let Some(sweep) = &study.sweep else {
+        return Ok(findings);
+    };
+    let mut points = Vec::with_capacity(sweep.values.len());
+    for &v in &sweep.values {
+        let point = study.with_input_estimate(sweep.input, v).map_err(|e| {
+            Error::Run(crate::error::RunError::Numerical(format!(
+                "cannot move `{}` to {v}: {e}",
+                study.inputs[sweep.input].name
+            )))
+        })?;
+        let (f, _) = run_study(&point, options)?;
+        points.push(SweepPoint {
+            value: v,
+            summary: f.measurands[sweep.measurand].monte_carlo,
+        });
+    }
+    findings.sweep = Some(SweepFinding {
+        input: sweep.input,
+        measurand: sweep.measurand,
+        points,
+    });
+    Ok(findings)
+}
+
+/// Compare designs on one measurand with the same seed and trials (a paired comparison): the
+/// first design's seed and trials (after its adaptive run, if it has one) apply to all.
+pub fn compare_designs(
+    designs: &[(String, Study)],
+    options: &RunOptions,
+    measurand: Option<&str>,
+) -> Result<Comparison, Error> {
+    let first = &designs[0].1;
+    let measurand_name = match measurand {
+        Some(m) => m.to_string(),
+        None => first.measurands[0].name.clone(),
+    };
+    let mut rows = Vec::with_capacity(designs.len());
+    let mut trials = first.trials;
+    let seed = first.seed;
+    for (k, (name, study)) in designs.iter().enumerate() {
+        let Some(m) = study
+            .measurands
+            .iter()
+            .position(|x| x.name == measurand_name)
+        else {
+            return Err(InputError {
+                file: study.file.clone(),
+                location: None,
+                key: Some("--measurand".into()),
+                message: format!(
+                    "design `{name}` has no measurand `{measurand_name}` (it has: {})",
+                    study
+                        .measurands
+                        .iter()
+                        .map(|x| x.name.as_str())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                example: Some("--measurand power".into()),
+            }
+            .into());
+        };
+        let mut s = study.clone();
+        s.seed = seed;
+        if k > 0 || s.adaptive.is_none() {
+            s.adaptive = None;
+            s.trials = trials;
+        }
+        let (f, _) = run_study(&s, options)?;
+        if k == 0 {
+            trials = f.trials;
+        }
+        rows.push(planning::comparison_row(name, f, m));
+    }
+    planning::rank_rows(&mut rows);
+    Ok(Comparison {
+        rows,
+        trials,
+        seed,
+        coverage: first.coverage,
+    })
+}
+
+/// Plan the improvements that reach a target for one measurand, and check the plan by a Monte
+/// Carlo run with the narrowed inputs (same seed and trials). When the check falls short (the
+/// budget is first order; the model may not be linear), the plan is made again for a target
+/// tightened by the ratio of target to achieved, which may improve more inputs, at most four
+/// times.
+pub fn plan_study(
+    study: &Study,
+    options: &RunOptions,
+    spec: TargetSpec,
+    measurand: usize,
+) -> Result<PlanFinding, Error> {
+    let (findings, _) = run_study(study, options)?;
+    let m = &findings.measurands[measurand];
+    let k = m
+        .monte_carlo
+        .coverage_factor
+        .or(m.lpu.as_ref().map(|l| l.coverage_factor))
+        .unwrap_or(2.0);
+    let mut u_t = spec.standard_si(m.monte_carlo.estimate, k);
+    let current = spec.express(&m.monte_carlo);
+    let no_budget = || {
+        Error::Run(crate::error::RunError::Numerical(format!(
+            "the law of propagation is not defined for `{}` at the estimates, so there is no budget to plan from",
+            m.name
+        )))
+    };
+    let mut proposal = planning::propose(m, u_t, &spec, k).ok_or_else(no_budget)?;
+    let mut checks = 0;
+    let mut verification = findings.clone();
+    let mut achieved = current;
+    while !proposal.changes.is_empty() {
+        checks += 1;
+        let mut s = study.clone();
+        s.adaptive = None;
+        s.trials = findings.trials;
+        for c in &proposal.changes {
+            if let Law::Distributed(d) = &s.inputs[c.input].law {
+                let narrowed = d.narrowed(c.factor).map_err(|e| {
+                    Error::Run(crate::error::RunError::Numerical(format!(
+                        "cannot narrow `{}` by {}: {e}",
+                        s.inputs[c.input].name, c.factor
+                    )))
+                })?;
+                s.inputs[c.input].law = Law::Distributed(narrowed);
+            }
+        }
+        let (f, _) = run_study(&s, options)?;
+        achieved = spec.express(&f.measurands[measurand].monte_carlo);
+        verification = f;
+        if achieved <= spec.value || checks >= 4 {
+            break;
+        }
+        u_t *= spec.value / achieved * 0.999;
+        let tighter = planning::propose(m, u_t, &spec, k).ok_or_else(no_budget)?;
+        if tighter.changes.is_empty() {
+            break;
+        }
+        proposal = Proposal {
+            alone: proposal.alone,
+            ..tighter
+        };
+    }
+    let met = if proposal.changes.is_empty() {
+        current <= spec.value
+    } else {
+        achieved <= spec.value
+    };
+    Ok(PlanFinding {
+        measurand,
+        spec,
+        proposal,
+        achieved,
+        current,
+        met,
+        checks,
+        verification: Box::new(verification),
+    })
 }

@@ -6,6 +6,7 @@ pub mod budget;
 pub mod intervals;
 pub mod lpu;
 pub mod moments;
+pub mod planning;
 pub mod sensitivity;
 pub mod summary;
 pub mod validation;
@@ -189,6 +190,12 @@ pub struct Findings {
     pub adaptive: Option<AdaptiveFinding>,
     /// The sensitivity ranking, from `radforce rank`.
     pub sensitivity: Option<SensitivityFinding>,
+    /// The noise floor from `[noise]`.
+    pub noise: Option<crate::scenario::NoiseFloor>,
+    /// The sweep from `[sweep]`.
+    pub sweep: Option<planning::SweepFinding>,
+    /// Names of the variants in the scenario file.
+    pub variants: Vec<String>,
     /// Warnings from loading and running.
     pub warnings: Vec<String>,
 }
@@ -338,6 +345,9 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
         correlation,
         adaptive: adaptive_finding,
         sensitivity: None,
+        noise: study.noise.clone(),
+        sweep: None,
+        variants: study.variants.clone(),
         warnings,
     }
 }

@@ -7,8 +7,8 @@ use std::f64::consts::PI;
 /// Arcsine on [min, max]: x = (a + b)/2 + (b - a)/2 sin(2 pi r); variance (b - a)^2 / 8.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Arcsine {
-    min: f64,
-    max: f64,
+    pub(crate) min: f64,
+    pub(crate) max: f64,
 }
 
 impl Arcsine {

@@ -10,12 +10,12 @@ use statrs::distribution::{Continuous, ContinuousCDF};
 /// Balakrishnan vol. 2, 25.2). Sampled by rand_distr, quantiles by statrs.
 #[derive(Clone, Debug)]
 pub struct BetaScaled {
-    alpha: f64,
-    beta: f64,
-    min: f64,
-    max: f64,
-    sampler: rand_distr::Beta<f64>,
-    reference: statrs::distribution::Beta,
+    pub(crate) alpha: f64,
+    pub(crate) beta: f64,
+    pub(crate) min: f64,
+    pub(crate) max: f64,
+    pub(crate) sampler: rand_distr::Beta<f64>,
+    pub(crate) reference: statrs::distribution::Beta,
 }
 
 impl PartialEq for BetaScaled {

@@ -13,9 +13,9 @@ use rand::Rng;
 /// ln((w + d)/t) / (4 d) for w - d < t <= w + d (JCGM 101 6.4.3.2). Requires 0 < d < w.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CurvilinearTrapezoid {
-    min: f64,
-    max: f64,
-    spread: f64,
+    pub(crate) min: f64,
+    pub(crate) max: f64,
+    pub(crate) spread: f64,
 }
 
 impl CurvilinearTrapezoid {

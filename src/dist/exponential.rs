@@ -8,7 +8,7 @@ use rand_distr::{Distribution as _, Exp1};
 /// Exponential with expectation `mean` (rate 1/mean); variance mean^2.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Exponential {
-    mean: f64,
+    pub(crate) mean: f64,
 }
 
 impl Exponential {

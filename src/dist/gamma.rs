@@ -9,10 +9,10 @@ use statrs::distribution::{Continuous, ContinuousCDF};
 /// rand_distr (Marsaglia and Tsang 2000); quantiles by statrs.
 #[derive(Clone, Debug)]
 pub struct GammaDist {
-    shape: f64,
-    scale: f64,
-    sampler: rand_distr::Gamma<f64>,
-    reference: statrs::distribution::Gamma,
+    pub(crate) shape: f64,
+    pub(crate) scale: f64,
+    pub(crate) sampler: rand_distr::Gamma<f64>,
+    pub(crate) reference: statrs::distribution::Gamma,
 }
 
 impl PartialEq for GammaDist {

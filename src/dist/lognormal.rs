@@ -9,10 +9,10 @@ use rand_distr::{Distribution as _, StandardNormal};
 /// that E[x] = mean and sd(x) = sd (Johnson, Kotz and Balakrishnan vol. 1, 14.3).
 #[derive(Clone, Debug, PartialEq)]
 pub struct LogNormal {
-    mean: f64,
-    sd: f64,
-    mu: f64,
-    sigma: f64,
+    pub(crate) mean: f64,
+    pub(crate) sd: f64,
+    pub(crate) mu: f64,
+    pub(crate) sigma: f64,
 }
 
 impl LogNormal {

@@ -22,6 +22,7 @@ mod normal;
 mod rectangular;
 pub mod special;
 mod student_t;
+mod transform;
 mod trapezoidal;
 mod triangular;
 mod truncated_normal;

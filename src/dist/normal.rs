@@ -9,8 +9,8 @@ use rand_distr::{Distribution as _, StandardNormal};
 /// `mean + sd z` with z from the ziggurat standard normal of rand_distr.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Normal {
-    mean: f64,
-    sd: f64,
+    pub(crate) mean: f64,
+    pub(crate) sd: f64,
 }
 
 impl Normal {

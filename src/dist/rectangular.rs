@@ -6,8 +6,8 @@ use rand::Rng;
 /// Rectangular on [min, max]: x = a + (b - a) r with r ~ R(0, 1); variance (b - a)^2 / 12.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Rectangular {
-    min: f64,
-    max: f64,
+    pub(crate) min: f64,
+    pub(crate) max: f64,
 }
 
 impl Rectangular {

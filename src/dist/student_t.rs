@@ -29,12 +29,12 @@ pub fn t_quantile(p: f64, dof: f64) -> f64 {
 /// scale^2 nu / (nu - 2), is finite only for nu > 2 (JCGM 101 6.4.9.3).
 #[derive(Clone, Debug)]
 pub struct ScaledT {
-    mean: f64,
-    scale: f64,
-    dof: f64,
-    readings: Option<usize>,
-    sampler: rand_distr::StudentT<f64>,
-    reference: statrs::distribution::StudentsT,
+    pub(crate) mean: f64,
+    pub(crate) scale: f64,
+    pub(crate) dof: f64,
+    pub(crate) readings: Option<usize>,
+    pub(crate) sampler: rand_distr::StudentT<f64>,
+    pub(crate) reference: statrs::distribution::StudentsT,
 }
 
 impl PartialEq for ScaledT {

@@ -9,9 +9,9 @@ use rand::Rng;
 /// (JCGM 101 6.4.4.4 and 6.4.4.5).
 #[derive(Clone, Debug, PartialEq)]
 pub struct Trapezoidal {
-    min: f64,
-    max: f64,
-    beta: f64,
+    pub(crate) min: f64,
+    pub(crate) max: f64,
+    pub(crate) beta: f64,
 }
 
 impl Trapezoidal {

@@ -6,8 +6,8 @@ use rand::Rng;
 /// Symmetric triangular on [min, max]: x = a + (b - a)(r1 + r2)/2; variance (b - a)^2 / 24.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Triangular {
-    min: f64,
-    max: f64,
+    pub(crate) min: f64,
+    pub(crate) max: f64,
 }
 
 impl Triangular {

@@ -19,13 +19,13 @@ use rand_distr::{Distribution as _, StandardNormal};
 /// inverse distribution function, worked on the tail side for accuracy far from the mean.
 #[derive(Clone, Debug, PartialEq)]
 pub struct TruncatedNormal {
-    mean: f64,
-    sd: f64,
-    min: f64,
-    max: f64,
-    alpha: f64,
-    beta: f64,
-    mass: f64,
+    pub(crate) mean: f64,
+    pub(crate) sd: f64,
+    pub(crate) min: f64,
+    pub(crate) max: f64,
+    pub(crate) alpha: f64,
+    pub(crate) beta: f64,
+    pub(crate) mass: f64,
 }
 
 impl TruncatedNormal {

@@ -81,11 +81,20 @@ pub enum ChainKind {
     TorsionPower,
     /// Planning direction of a torsion balance: the signals a given power produces.
     TorsionSignal,
+    /// Calibration direction of a force balance: power from the reading.
+    WeighingPower,
+    /// Planning direction of a force balance: the reading a given power produces.
+    WeighingSignal,
 }
 
 impl ChainKind {
     /// Every chain, in the order shown to users.
-    pub const ALL: [ChainKind; 2] = [ChainKind::TorsionPower, ChainKind::TorsionSignal];
+    pub const ALL: [ChainKind; 4] = [
+        ChainKind::TorsionPower,
+        ChainKind::TorsionSignal,
+        ChainKind::WeighingPower,
+        ChainKind::WeighingSignal,
+    ];
 
     /// Look a chain up by its scenario name.
     pub fn from_name(name: &str) -> Option<ChainKind> {
@@ -97,6 +106,8 @@ impl ChainKind {
         match self {
             ChainKind::TorsionPower => &super::torsion::TORSION_POWER,
             ChainKind::TorsionSignal => &super::torsion::TORSION_SIGNAL,
+            ChainKind::WeighingPower => &super::weighing::WEIGHING_POWER,
+            ChainKind::WeighingSignal => &super::weighing::WEIGHING_SIGNAL,
         }
     }
 
@@ -107,6 +118,30 @@ impl ChainKind {
         match self {
             ChainKind::TorsionPower => super::torsion::torsion_power(args, out),
             ChainKind::TorsionSignal => super::torsion::torsion_signal(args, out),
+            ChainKind::WeighingPower => super::weighing::weighing_power(args, out),
+            ChainKind::WeighingSignal => super::weighing::weighing_signal(args, out),
         }
+    }
+}
+
+impl ChainKind {
+    /// The planning twin of a calibration chain (and back).
+    pub fn twin(self) -> ChainKind {
+        match self {
+            ChainKind::TorsionPower => ChainKind::TorsionSignal,
+            ChainKind::TorsionSignal => ChainKind::TorsionPower,
+            ChainKind::WeighingPower => ChainKind::WeighingSignal,
+            ChainKind::WeighingSignal => ChainKind::WeighingPower,
+        }
+    }
+
+    /// Whether the chain is a torsion balance.
+    pub fn is_torsion(self) -> bool {
+        matches!(self, ChainKind::TorsionPower | ChainKind::TorsionSignal)
+    }
+
+    /// Whether the chain infers the power (calibration direction).
+    pub fn is_calibration(self) -> bool {
+        matches!(self, ChainKind::TorsionPower | ChainKind::WeighingPower)
     }
 }

@@ -9,6 +9,7 @@
 pub mod chain;
 pub mod formula;
 mod torsion;
+mod weighing;
 
 pub use chain::{ChainInput, ChainKind, ChainMeasurand, ChainSpec, Domain};
 

@@ -3,7 +3,7 @@
 //!
 //! torsion-power, exactly:
 //! kappa = I (2 pi / T0)^2, divided by (1 - 1/(4 Q^2)) when Q is given;
-//! phi = atan(s / D) / 2;  F = kappa phi / L - F_stray;
+//! phi = atan(s / D) / 2;  F = kappa phi / L - F_stray - F_noise;
 //! eta = 1 - exp(-2 a^2 / w^2);  g = (1 + R - T) cos(theta) + (2/3) Rd;  S = sum_{k<n} R^k;
 //! P = F c / (g eta S).
 //! Sources: momentum transfer and the multi-bounce sum in `physics::momentum`, the Gaussian
@@ -132,22 +132,29 @@ macro_rules! shared_inputs {
                 Domain::Any,
                 "force on the arm not due to radiation (gas, electrostatics), default 0",
             ),
+            input(
+                "noise_force",
+                Dimension::FORCE,
+                Some(0.0),
+                Domain::Any,
+                "zero-mean force noise left after averaging (made from [noise]), default 0",
+            ),
         ]
     };
 }
 
-const fn with_first(first: ChainInput) -> [ChainInput; 14] {
-    let rest: [ChainInput; 13] = shared_inputs!();
-    let mut all = [first; 14];
+const fn with_first(first: ChainInput) -> [ChainInput; 15] {
+    let rest: [ChainInput; 14] = shared_inputs!();
+    let mut all = [first; 15];
     let mut i = 0;
-    while i < 13 {
+    while i < 14 {
         all[i + 1] = rest[i];
         i += 1;
     }
     all
 }
 
-const TORSION_POWER_INPUTS: [ChainInput; 14] = with_first(input(
+const TORSION_POWER_INPUTS: [ChainInput; 15] = with_first(input(
     "readout_shift",
     Dimension::LENGTH,
     None,
@@ -155,7 +162,7 @@ const TORSION_POWER_INPUTS: [ChainInput; 14] = with_first(input(
     "spot displacement s on the optical-lever scale",
 ));
 
-const TORSION_SIGNAL_INPUTS: [ChainInput; 14] = with_first(input(
+const TORSION_SIGNAL_INPUTS: [ChainInput; 15] = with_first(input(
     "power",
     Dimension::POWER,
     None,
@@ -223,6 +230,7 @@ struct Setup<T> {
     lever_arm: T,
     /// g eta S / c: newtons per watt arriving at the first mirror.
     force_per_watt: T,
+    /// Stray force plus the noise force.
     stray_force: T,
 }
 
@@ -230,8 +238,8 @@ struct Setup<T> {
 fn setup<T: Scalar>(a: &[T]) -> Setup<T> {
     let (scale_distance, free_period, moment_of_inertia, lever_arm) = (a[1], a[2], a[3], a[4]);
     let (reflectance, incidence, beam_radius, mirror_radius) = (a[5], a[6], a[7], a[8]);
-    let (transmittance, diffuse, bounces, quality_factor, stray_force) =
-        (a[9], a[10], a[11], a[12], a[13]);
+    let (transmittance, diffuse, bounces, quality_factor) = (a[9], a[10], a[11], a[12]);
+    let stray_force = a[13] + a[14];
     let mut kappa = torsion_constant_from_period(moment_of_inertia, free_period);
     if quality_factor.value().is_finite() {
         kappa = damping_corrected(kappa, quality_factor);
@@ -282,10 +290,10 @@ mod tests {
     use super::*;
     use approx::assert_relative_eq;
 
-    fn args(first: f64) -> [f64; 14] {
+    fn args(first: f64) -> [f64; 15] {
         [
             first, 2.0, 240.0, 3.0e-4, 0.05, 0.9995, 0.2, 1.5e-3, 6e-3, 1e-4, 2e-4, 3.0, 5000.0,
-            1e-12,
+            1e-12, 2e-13,
         ]
     }
 
@@ -318,6 +326,7 @@ mod tests {
             0.0,
             1.0,
             f64::INFINITY,
+            0.0,
             0.0,
         ];
         let mut out = [0.0; 4];

@@ -4,7 +4,9 @@
 //!
 //! [`Scalar`]: crate::scalar::Scalar
 
+pub mod balance;
 pub mod beam;
 pub mod constants;
 pub mod momentum;
+pub mod noise;
 pub mod torsion;

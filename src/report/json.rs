@@ -184,6 +184,49 @@ pub fn report_value(f: &Findings) -> Value {
         "warnings": f.warnings,
         "cautions": cautions(f.laser),
     });
+    if let Value::Object(o) = &mut out {
+        if let Some(n) = &f.noise {
+            o.insert(
+                "noise".into(),
+                json!({
+                    "components": n.components.iter().map(|(name, d)| json!({"source": name, "force_density": num(*d)})).collect::<Vec<_>>(),
+                    "force_density": num(n.density),
+                    "averaging_time": num(n.averaging_time),
+                    "force_resolution": num(n.resolution),
+                    "radiation_force": num(n.force),
+                    "target_resolution": num(n.target_resolution),
+                    "time_for_target": num(n.time_for_target),
+                    "convention": crate::scenario::PSD_CONVENTION,
+                }),
+            );
+        }
+        if let Some(sw) = &f.sweep {
+            let m = &f.measurands[sw.measurand];
+            let k = m.unit.factor;
+            o.insert(
+                "sweep".into(),
+                json!({
+                    "input": f.inputs[sw.input].name,
+                    "unit": f.inputs[sw.input].si_unit,
+                    "measurand": m.name,
+                    "measurand_unit": m.unit.symbol,
+                    "points": sw.points.iter().map(|p| {
+                        let s = &p.summary;
+                        json!({
+                            "value": num(p.value),
+                            "estimate": num(s.estimate / k),
+                            "standard_uncertainty": num(s.standard_uncertainty / k),
+                            "relative_standard_uncertainty": num(s.standard_uncertainty / s.estimate.abs()),
+                            "expanded_uncertainty": num(s.expanded_uncertainty / k),
+                            "relative_expanded_uncertainty": num(s.expanded_uncertainty / s.estimate.abs()),
+                            "symmetric_interval": pair(s.symmetric_interval, k),
+                        })
+                    }).collect::<Vec<_>>(),
+                }),
+            );
+        }
+        o.insert("variants".into(), json!(f.variants));
+    }
     if let (Some(s), Value::Object(o)) = (&f.sensitivity, &mut out) {
         let m = &s.method;
         o.insert(
@@ -222,6 +265,9 @@ const NULLABLE: &[&str] = &[
     "correlation",
     "spearman",
     "lpu_share",
+    "noise_force_resolution",
+    "averaging_time_for_target",
+    "needed",
 ];
 
 /// Check that no number was lost: every null sits in a nullable field.
@@ -234,10 +280,99 @@ pub fn check_numbers(v: &Value, key: &str) -> Result<(), String> {
     }
 }
 
+fn pretty(v: &Value) -> Vec<u8> {
+    let mut s = serde_json::to_string_pretty(v).unwrap_or_default();
+    s.push('\n');
+    s.into_bytes()
+}
+
 impl Exporter for JsonReport {
     fn render(&self, f: &Findings) -> Vec<u8> {
-        let mut s = serde_json::to_string_pretty(&report_value(f)).unwrap_or_default();
-        s.push('\n');
-        s.into_bytes()
+        pretty(&report_value(f))
     }
+    fn comparison(&self, c: &crate::analysis::planning::Comparison) -> Vec<u8> {
+        pretty(&comparison_value(c))
+    }
+    fn plan(&self, p: &crate::analysis::planning::PlanFinding) -> Vec<u8> {
+        pretty(&plan_value(p))
+    }
+}
+
+/// The JSON of a comparison: `comparison` rows as DESIGN's issue fixes them, with more fields.
+pub fn comparison_value(c: &crate::analysis::planning::Comparison) -> Value {
+    let rows: Vec<Value> = c
+        .rows
+        .iter()
+        .map(|r| {
+            let m = &r.findings.measurands[r.measurand];
+            let k = m.unit.factor;
+            let s = &r.summary;
+            json!({
+                "name": r.name,
+                "measurand": m.name,
+                "unit": m.unit.symbol,
+                "estimate": num(s.estimate / k),
+                "standard_uncertainty": num(s.standard_uncertainty / k),
+                "relative_standard_uncertainty": num(s.standard_uncertainty / s.estimate.abs()),
+                "expanded_uncertainty": num(s.expanded_uncertainty / k),
+                "relative_expanded_uncertainty": num(r.relative_expanded_uncertainty),
+                "symmetric_interval": pair(s.symmetric_interval, k),
+                "top_contributors": r.top.iter().map(|(n, sh)| json!({"input": n, "share": num(*sh)})).collect::<Vec<_>>(),
+                "noise_force_resolution": r.findings.noise.as_ref().map_or(Value::Null, |n| num(n.resolution)),
+                "averaging_time_for_target": r.findings.noise.as_ref().map_or(Value::Null, |n| num(n.time_for_target)),
+                "scenario": r.findings.file,
+                "rank": r.rank,
+            })
+        })
+        .collect();
+    let laser = c.rows.iter().any(|r| r.findings.laser);
+    json!({
+        "comparison": rows,
+        "trials": c.trials,
+        "seed": c.seed,
+        "coverage_probability": num(c.coverage),
+        "generator": crate::engine::generator_description(),
+        "radforce_version": env!("CARGO_PKG_VERSION"),
+        "cautions": cautions(laser),
+    })
+}
+
+/// The JSON of a plan: `plan` {`measurand`, `target`, `achieved`, `changes`} in the terms the user
+/// asked for, with more fields.
+pub fn plan_value(p: &crate::analysis::planning::PlanFinding) -> Value {
+    let f = &p.verification;
+    let m = &f.measurands[p.measurand];
+    let changes: Vec<Value> = p
+        .proposal
+        .changes
+        .iter()
+        .map(|c| json!({"input": f.inputs[c.input].name, "unit": f.inputs[c.input].si_unit, "from": num(c.from), "to": num(c.to), "factor": num(c.factor)}))
+        .collect();
+    let alone: Vec<Value> = p
+        .proposal
+        .alone
+        .iter()
+        .map(|a| json!({"input": f.inputs[a.input].name, "current": num(a.current), "needed": a.needed.map_or(Value::Null, num), "floor": num(a.floor)}))
+        .collect();
+    json!({
+        "plan": {
+            "measurand": m.name,
+            "unit": if p.spec.relative { "" } else { m.unit.symbol.as_str() },
+            "target": num(if p.spec.relative { p.spec.value } else { p.spec.value / m.unit.factor }),
+            "achieved": num(if p.spec.relative { p.achieved } else { p.achieved / m.unit.factor }),
+            "current": num(if p.spec.relative { p.current } else { p.current / m.unit.factor }),
+            "relative": p.spec.relative,
+            "expanded": p.spec.expanded,
+            "met": p.met,
+            "changes": changes,
+            "alone": alone,
+            "explanation": p.proposal.explanation,
+            "checking_runs": p.checks,
+        },
+        "trials": f.trials,
+        "seed": f.seed,
+        "coverage_probability": num(f.coverage),
+        "radforce_version": env!("CARGO_PKG_VERSION"),
+        "cautions": cautions(f.laser),
+    })
 }

@@ -11,7 +11,8 @@ use crate::analysis::{Findings, MeasurandFinding};
 /// Human-readable tables of the results, with GUM rounding and readable units.
 pub struct TextReport;
 
-fn percent(p: f64) -> String {
+/// A probability as a percentage ("95 %").
+pub fn percent(p: f64) -> String {
     let s = format!("{:.4}", 100.0 * p);
     let s = s.trim_end_matches('0').trim_end_matches('.');
     format!("{s} %")
@@ -31,6 +32,12 @@ pub fn grouped(n: u64) -> String {
 }
 
 impl Exporter for TextReport {
+    fn comparison(&self, c: &crate::analysis::planning::Comparison) -> Vec<u8> {
+        super::decisions_text::comparison(c).into_bytes()
+    }
+    fn plan(&self, p: &crate::analysis::planning::PlanFinding) -> Vec<u8> {
+        super::decisions_text::plan(p).into_bytes()
+    }
     fn render(&self, f: &Findings) -> Vec<u8> {
         let mut out = String::new();
         out.push_str(&format!("{}\n", f.title));
@@ -98,6 +105,8 @@ impl Exporter for TextReport {
             budget_section(&mut out, f, m);
         }
         correlation_section(&mut out, f);
+        noise_section(&mut out, f);
+        sweep_section(&mut out, f);
 
         out.push('\n');
         let mut t = TextTable::new(
@@ -157,6 +166,13 @@ impl Exporter for TextReport {
             ));
         }
 
+        if !f.variants.is_empty() {
+            out.push_str(&format!(
+                "\nThis file also defines the variants {}: compare them with `radforce compare {}`.\n",
+                f.variants.join(", "),
+                f.file
+            ));
+        }
         if !f.warnings.is_empty() {
             out.push_str("\nwarnings:\n");
             for w in &f.warnings {
@@ -385,4 +401,85 @@ fn sensitivity_section(out: &mut String, f: &Findings) {
         "\"interaction\": the total index exceeds the first-order one by more than {} (variance that the input shares with others).\n",
         crate::analysis::sensitivity::INTERACTION_GAP
     ));
+}
+
+/// A duration in readable units.
+pub fn duration(t: f64) -> String {
+    if t < 120.0 {
+        format!("{} s", significant(t, 3))
+    } else if t < 7200.0 {
+        format!("{} min", significant(t / 60.0, 3))
+    } else if t < 2.0 * 86400.0 {
+        format!("{} h", significant(t / 3600.0, 3))
+    } else {
+        format!("{} days", significant(t / 86400.0, 3))
+    }
+}
+
+/// A force in a readable unit.
+pub fn force_text(x: f64) -> String {
+    let u = crate::units::readable_unit(crate::units::Dimension::FORCE, x);
+    format!("{} {}", significant(x / u.factor, 3), u.symbol)
+}
+
+/// The noise floor from `[noise]`.
+fn noise_section(out: &mut String, f: &Findings) {
+    let Some(n) = &f.noise else { return };
+    out.push_str("\nnoise floor (force noise densities at the input estimates):\n");
+    for (name, d) in &n.components {
+        out.push_str(&format!("  {name}: {}/sqrt(Hz)\n", force_text(*d)));
+    }
+    out.push_str(&format!(
+        "  total {}/sqrt(Hz); averaged for {}: force resolution {} (the input `noise_force`); {} resolution needs {} of averaging\n",
+        force_text(n.density),
+        duration(n.averaging_time),
+        force_text(n.resolution),
+        force_text(n.target_resolution),
+        duration(n.time_for_target)
+    ));
+    out.push_str(&format!(
+        "  convention: {}\n",
+        crate::scenario::PSD_CONVENTION
+    ));
+}
+
+/// The sweep from `[sweep]`.
+fn sweep_section(out: &mut String, f: &Findings) {
+    let Some(sw) = &f.sweep else { return };
+    let q = &f.inputs[sw.input];
+    let m = &f.measurands[sw.measurand];
+    let unit = measurand_unit(m);
+    let p = percent(f.coverage);
+    out.push_str(&format!(
+        "\nsweep of {} ({} points, each a full run of {} trials with the same seed):\n",
+        q.name,
+        sw.points.len(),
+        grouped(f.trials)
+    ));
+    let xu = &q.shown_unit;
+    let mut t = TextTable::new(
+        &[
+            &format!("{} ({})", q.name, xu.symbol),
+            &format!("{} ({})", m.name, unit.symbol),
+            "u",
+            "u rel.",
+            &format!("U rel. ({p})"),
+        ],
+        &[true, true, true, true, true],
+    );
+    for pt in &sw.points {
+        let s = &pt.summary;
+        let (y, u, _) = value_and_uncertainty(
+            s.estimate / unit.factor,
+            s.standard_uncertainty / unit.factor,
+        );
+        t.row(vec![
+            significant(pt.value / xu.factor, 4),
+            y,
+            u,
+            relative_percent(s.standard_uncertainty, s.estimate),
+            relative_percent(s.expanded_uncertainty, s.estimate),
+        ]);
+    }
+    out.push_str(&t.render());
 }

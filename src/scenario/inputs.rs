@@ -470,7 +470,7 @@ fn type_b_degrees_of_freedom(e: &Entry<'_, '_>) -> Result<f64, InputError> {
 /// clamp).
 pub const OUTSIDE_TOLERANCE: f64 = 1e-12;
 
-fn check_domain(
+pub(crate) fn check_domain(
     table: &Table<'_, '_>,
     q: &InputQuantity,
     ci: &ChainInput,

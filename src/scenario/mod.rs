@@ -4,11 +4,13 @@
 
 mod correlation;
 mod inputs;
+mod noise;
 mod source;
 mod table;
 
 pub use correlation::{CorrelatedGroup, CorrelatedPair, Correlations};
 pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
+pub use noise::{NoiseFloor, NoiseSettings, PSD_CONVENTION, Target};
 pub use source::{Source, edit_distance, nearest};
 
 use crate::error::InputError;
@@ -77,8 +79,43 @@ pub struct Study {
     pub correlations: Correlations,
     /// The adaptive procedure of JCGM 101 7.9, when asked for (then `trials` is the batch size).
     pub adaptive: Option<Adaptive>,
+    /// The noise floor, when `[noise]` asks for one (then `noise_force` is among the inputs).
+    pub noise: Option<NoiseFloor>,
+    /// A sweep of one input, when `[sweep]` asks for one.
+    pub sweep: Option<Sweep>,
+    /// Names of the `[variants.NAME]` of the file (compared by `radforce compare`).
+    pub variants: Vec<String>,
     /// Things worth knowing that do not stop the run.
     pub warnings: Vec<String>,
+}
+
+/// A sweep of one input quantity over a range of estimates, each point a full run.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Sweep {
+    /// The input swept.
+    pub input: usize,
+    /// The estimates it takes, SI.
+    pub values: Vec<f64>,
+    /// The measurand followed.
+    pub measurand: usize,
+}
+
+impl Study {
+    /// The study with input `i` moved to the estimate `value` (a constant takes the value; a
+    /// distribution is moved, see `Distribution::with_mean`).
+    pub fn with_input_estimate(
+        &self,
+        i: usize,
+        value: f64,
+    ) -> Result<Study, crate::dist::ParameterError> {
+        let mut s = self.clone();
+        s.inputs[i].law = match &self.inputs[i].law {
+            Law::Constant(_) => Law::Constant(value),
+            Law::Distributed(d) => Law::Distributed(d.with_mean(value)?),
+        };
+        s.sweep = None;
+        Ok(s)
+    }
 }
 
 /// Settings of the adaptive Monte Carlo procedure (JCGM 101:2008 7.9.4).
@@ -119,6 +156,9 @@ const TOP_KEYS: &[&str] = &[
     "measurands",
     "correlation",
     "adaptive",
+    "noise",
+    "sweep",
+    "variants",
 ];
 
 /// Default cap on the trials of an adaptive run.
@@ -158,6 +198,124 @@ pub fn load_file(path: &Path) -> Result<Study, InputError> {
         )
     })?;
     load_str(&text, &shown)
+}
+
+/// Read a scenario file and its `[variants.NAME]`: the base study first, then one study per
+/// variant (each named by its key), all validated.
+pub fn load_designs(path: &Path) -> Result<Vec<(String, Study)>, InputError> {
+    let base = load_file(path)?;
+    if base.variants.is_empty() {
+        return Ok(vec![(base.title.clone(), base)]);
+    }
+    let shown = path.display().to_string();
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| InputError::file(&shown, format!("cannot read the scenario file: {e}")))?;
+    let mut out = vec![(base.title.clone(), base)];
+    out.extend(load_variants_str(&text, &shown)?);
+    Ok(out)
+}
+
+const VARIANT_KEYS: &[&str] = &["title", "model", "inputs", "drop", "noise"];
+const VARIANT_EXAMPLE: &str = "[variants.heavier_bob]\ntitle = \"Heavier bob\"\ndrop = [\"stray_force\"]\n[variants.heavier_bob.inputs.moment_of_inertia]\nvalue = \"6e-4 kg m^2\"";
+
+/// The variants of scenario text: each is the base scenario with its `model`, `noise`, `title`
+/// and the named input tables replaced (or added), and the inputs listed in `drop` removed.
+pub fn load_variants_str(text: &str, file: &str) -> Result<Vec<(String, Study)>, InputError> {
+    let src = Source { file, text };
+    let doc = DeTable::parse(text).map_err(|e| {
+        src.error(
+            &e.span().unwrap_or(0..0),
+            "",
+            format!("TOML syntax: {}", e.message().trim_end()),
+            "",
+        )
+    })?;
+    let base = doc.get_ref();
+    let top = Table {
+        src: &src,
+        path: String::new(),
+        map: base,
+        span: 0..0,
+    };
+    let Some(ve) = top.get("variants") else {
+        return Ok(Vec::new());
+    };
+    let variants = ve.table(VARIANT_EXAMPLE)?;
+    let mut out = Vec::new();
+    for v in variants.entries() {
+        let vt = v.table(VARIANT_EXAMPLE)?;
+        vt.check_keys(VARIANT_KEYS, VARIANT_EXAMPLE)?;
+        let mut map = base.clone();
+        map.remove("variants");
+        for key in ["title", "model", "noise"] {
+            if let Some((k, val)) = vt.map.get_key_value(key) {
+                map.insert(k.clone(), val.clone());
+            }
+        }
+        if vt.get("title").is_none() {
+            let base_title = top
+                .get("title")
+                .and_then(|t| t.string("").ok().map(str::to_string))
+                .unwrap_or_default();
+            let title = format!("{base_title} [{}]", v.key);
+            let span = v.key_span.clone();
+            map.insert(
+                toml::Spanned::new(span.clone(), std::borrow::Cow::Borrowed("title")),
+                toml::Spanned::new(span, DeValue::String(std::borrow::Cow::Owned(title))),
+            );
+        }
+        let mut inputs = match map.get("inputs").map(|x| x.get_ref()) {
+            Some(DeValue::Table(t)) => t.clone(),
+            _ => DeTable::new(),
+        };
+        if let Some(d) = vt.get("drop") {
+            for item in d.array("drop = [\"stray_force\"]")? {
+                let DeValue::String(name) = item.get_ref() else {
+                    return Err(d.error(
+                        "`drop` lists input names as strings",
+                        "drop = [\"stray_force\"]",
+                    ));
+                };
+                if inputs.remove(name.as_ref()).is_none() {
+                    return Err(src.error(
+                        &item.span(),
+                        &d.path,
+                        format!("the base scenario has no input `{name}` to drop"),
+                        "drop = [\"stray_force\"]",
+                    ));
+                }
+            }
+        }
+        if let Some(ie) = vt.get("inputs") {
+            let it = ie.table(VARIANT_EXAMPLE)?;
+            for (k, val) in it.map.iter() {
+                match inputs.get_mut(k.get_ref().as_ref()) {
+                    Some(slot) => *slot = val.clone(),
+                    None => {
+                        inputs.insert(k.clone(), val.clone());
+                    }
+                }
+            }
+        }
+        let inputs_span = map.get("inputs").map_or(0..0, |x| x.span());
+        let key = map
+            .get_key_value("inputs")
+            .map(|(k, _)| k.clone())
+            .unwrap_or_else(|| toml::Spanned::new(0..0, std::borrow::Cow::Borrowed("inputs")));
+        map.insert(key, toml::Spanned::new(inputs_span, DeValue::Table(inputs)));
+        let study = Loader {
+            src: &src,
+            top: Table {
+                src: &src,
+                path: String::new(),
+                map: &map,
+                span: 0..0,
+            },
+        }
+        .load()?;
+        out.push((study.title.clone(), study));
+    }
+    Ok(out)
 }
 
 /// Read and validate scenario text; `file` names it in messages.
@@ -250,7 +408,68 @@ impl<'a, 'i> Loader<'a, 'i> {
             Some(e) => correlation::read_correlations(&e, &inputs)?,
             None => Correlations::default(),
         };
-        let (measurands, model) = self.model(chain.clone(), &inputs)?;
+        let (mut measurands, mut model) = self.model(chain.clone(), &inputs)?;
+        let mut inputs = inputs;
+        let noise = match top.get("noise") {
+            None => None,
+            Some(e) => {
+                let t = e.table("[noise]\naveraging_time = \"100 s\"")?;
+                let Some((kind, _)) = chain.clone() else {
+                    return Err(t.error(
+                        "[noise] describes the balance of a built-in chain; with formulas only, model the noise as an input quantity",
+                        "[model]\nchain = \"torsion-power\"",
+                    ));
+                };
+                if let Some(q) = inputs.iter().find(|q| q.name == "noise_force") {
+                    return Err(self.src.error(
+                        &q.span,
+                        "inputs.noise_force",
+                        "`noise_force` is made from [noise]; remove one of the two",
+                        "[noise]\naveraging_time = \"100 s\"",
+                    ));
+                }
+                let settings = noise::read_noise(&t)?;
+                let estimates: Vec<f64> = inputs.iter().map(InputQuantity::estimate).collect();
+                let values = model.evaluate_point::<f64>(&estimates);
+                let spec = kind.spec();
+                let value_of = |name: &str| -> Option<f64> {
+                    if let Some(q) = inputs.iter().find(|q| q.name == name) {
+                        return Some(q.estimate());
+                    }
+                    spec.inputs
+                        .iter()
+                        .find(|c| c.name == name)
+                        .and_then(|c| c.default)
+                };
+                let measurand = |name: &str| {
+                    measurands
+                        .iter()
+                        .position(|m| m.name == name)
+                        .map(|i| values[i])
+                };
+                let force = measurand("force").unwrap_or(f64::NAN);
+                let power = measurand("power")
+                    .or_else(|| value_of("power"))
+                    .unwrap_or(f64::NAN);
+                let floor = noise::noise_floor(&t, &settings, kind, &value_of, force, power)?;
+                inputs.push(noise::noise_input(&floor, &t)?);
+                (measurands, model) = self.model(chain.clone(), &inputs)?;
+                Some(floor)
+            }
+        };
+        let sweep = match top.get("sweep") {
+            None => None,
+            Some(e) => Some(self.sweep(&e, &inputs, &measurands, chain.as_ref().map(|c| c.0))?),
+        };
+        let variants = match top.get("variants") {
+            None => Vec::new(),
+            Some(e) => {
+                let t = e.table(
+                    "[variants.lighter_bob.inputs.moment_of_inertia]\nvalue = \"1e-4 kg m^2\"",
+                )?;
+                t.entries().iter().map(|v| v.key.to_string()).collect()
+            }
+        };
         if let Some((kind, _)) = chain.clone() {
             self.chain_cross_checks(kind, &inputs, &mut warnings)?;
         }
@@ -273,7 +492,129 @@ impl<'a, 'i> Loader<'a, 'i> {
             model,
             correlations,
             adaptive,
+            noise,
+            sweep,
+            variants,
             warnings,
+        })
+    }
+
+    fn sweep(
+        &self,
+        e: &Entry<'_, '_>,
+        inputs: &[InputQuantity],
+        measurands: &[Measurand],
+        chain: Option<ChainKind>,
+    ) -> Result<Sweep, InputError> {
+        let example =
+            "[sweep]\ninput = \"beam_radius\"\nfrom = \"0.5 mm\"\nto = \"3 mm\"\nsteps = 11";
+        let t = e.table(example)?;
+        t.check_keys(
+            &["input", "from", "to", "steps", "scale", "measurand"],
+            example,
+        )?;
+        let ie = t.require("input", example)?;
+        let name = ie.string(example)?;
+        let Some(index) = inputs.iter().position(|q| q.name == name) else {
+            return Err(ie.error(
+                format!(
+                    "no input quantity `{name}`{}",
+                    suggestion(name, inputs.iter().map(|q| q.name.as_str()))
+                ),
+                example,
+            ));
+        };
+        let q = &inputs[index];
+        let read = |key: &str| -> Result<f64, InputError> {
+            let v = t.require(key, example)?;
+            match v.value.get_ref() {
+                DeValue::String(text) => {
+                    let parsed = parse_quantity(text).map_err(|err| {
+                        v.error(format!("cannot read {:?}: {err}", text.as_ref()), example)
+                    })?;
+                    if let (Some(u), Some(d)) = (&parsed.unit, q.dimension)
+                        && u.dimension != d
+                    {
+                        return Err(v.error(
+                            format!("`{name}` is {}, not {}", d.kind(), u.dimension.kind()),
+                            example,
+                        ));
+                    }
+                    Ok(parsed.si)
+                }
+                _ => v.number(example),
+            }
+        };
+        let (from, to) = (read("from")?, read("to")?);
+        let steps = t.require("steps", example)?.whole(2, 1000, "steps = 11")? as usize;
+        let log = match t.get("scale") {
+            None => false,
+            Some(s) => match s.string("scale = \"log\"")? {
+                "linear" => false,
+                "log" => true,
+                other => {
+                    return Err(s.error(
+                        format!("unknown scale {other:?}: \"linear\" or \"log\""),
+                        "scale = \"log\"",
+                    ));
+                }
+            },
+        };
+        if from == to {
+            return Err(t.error("`from` and `to` must differ", example));
+        }
+        if log && !(from > 0.0 && to > 0.0) {
+            return Err(t.error(
+                "a logarithmic sweep needs positive `from` and `to`",
+                example,
+            ));
+        }
+        let values: Vec<f64> = (0..steps)
+            .map(|k| {
+                let x = k as f64 / (steps - 1) as f64;
+                if log {
+                    from * (to / from).powf(x)
+                } else {
+                    from + (to - from) * x
+                }
+            })
+            .collect();
+        let measurand = match t.get("measurand") {
+            None => 0,
+            Some(m) => {
+                let n = m.string("measurand = \"power\"")?;
+                measurands.iter().position(|x| x.name == n).ok_or_else(|| {
+                    m.error(
+                        format!(
+                            "no measurand `{n}`{}",
+                            suggestion(n, measurands.iter().map(|x| x.name.as_str()))
+                        ),
+                        "measurand = \"power\"",
+                    )
+                })?
+            }
+        };
+        // Every point must be physically possible.
+        if let Some(ci) = chain.and_then(|k| k.spec().inputs.iter().find(|c| c.name == q.name)) {
+            for v in &values {
+                let moved = match &q.law {
+                    Law::Constant(_) => Law::Constant(*v),
+                    Law::Distributed(d) => Law::Distributed(
+                        d.with_mean(*v)
+                            .map_err(|err| t.error(format!("at {name} = {v}: {err}"), example))?,
+                    ),
+                };
+                let point = InputQuantity {
+                    law: moved,
+                    ..q.clone()
+                };
+                inputs::check_domain(&t, &point, ci)?;
+            }
+        }
+        Ok(Sweep {
+            input: index,
+            values,
+            measurand,
         })
     }
 

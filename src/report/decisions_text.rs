@@ -1,0 +1,218 @@
+//! Text reports of comparisons and plans.
+
+use super::cautions::cautions;
+use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
+use super::table::TextTable;
+use super::text::{duration, force_text, grouped, percent};
+use crate::analysis::planning::{Comparison, PlanFinding};
+
+/// "relative expanded uncertainty 0.10 % (95 %)" and the like.
+pub fn target_words(p: &PlanFinding, coverage: f64) -> String {
+    let kind = if p.spec.expanded {
+        format!("expanded uncertainty ({} coverage)", percent(coverage))
+    } else {
+        "standard uncertainty".to_string()
+    };
+    if p.spec.relative {
+        format!("relative {kind}")
+    } else {
+        kind
+    }
+}
+
+/// A value in the plan's terms.
+pub fn target_value(p: &PlanFinding, v: f64) -> String {
+    if p.spec.relative {
+        format!("{} %", significant(100.0 * v, 3))
+    } else {
+        let m = &p.verification.measurands[p.measurand];
+        let u = measurand_unit(m);
+        format!("{} {}", significant(v / u.factor, 3), u.symbol)
+    }
+}
+
+/// The comparison table.
+pub fn comparison(c: &Comparison) -> String {
+    let mut out = String::new();
+    let first = &c.rows[0];
+    let m = &first.findings.measurands[first.measurand];
+    let p = percent(c.coverage);
+    out.push_str(&format!(
+        "Designs compared on `{}` (paired: M = {} trials and seed {} for every design), ranked by relative expanded uncertainty\n\n",
+        m.name,
+        grouped(c.trials),
+        c.seed
+    ));
+    let mut t = TextTable::new(
+        &[
+            "rank",
+            "design",
+            "unit",
+            "estimate",
+            "u",
+            "u rel.",
+            &format!("U rel. ({p})"),
+            &format!("{p} interval"),
+            "largest contributors",
+            "noise floor",
+            "averaging for target",
+        ],
+        &[
+            true, false, false, true, true, true, true, false, false, false, false,
+        ],
+    );
+    let mut order: Vec<usize> = (0..c.rows.len()).collect();
+    order.sort_by_key(|i| c.rows[*i].rank);
+    for i in order {
+        let r = &c.rows[i];
+        let mf = &r.findings.measurands[r.measurand];
+        let unit = measurand_unit(mf);
+        let s = &r.summary;
+        let (y, u, e) = value_and_uncertainty(
+            s.estimate / unit.factor,
+            s.standard_uncertainty / unit.factor,
+        );
+        let top: Vec<String> = r
+            .top
+            .iter()
+            .map(|(n, sh)| format!("{n} {:.0} %", 100.0 * sh))
+            .collect();
+        let (noise, time) = match &r.findings.noise {
+            Some(n) => (
+                force_text(n.resolution),
+                format!(
+                    "{} for {}",
+                    duration(n.time_for_target),
+                    force_text(n.target_resolution)
+                ),
+            ),
+            None => ("-".into(), "-".into()),
+        };
+        t.row(vec![
+            format!("{}", r.rank),
+            r.name.clone(),
+            unit.symbol.clone(),
+            y,
+            u,
+            relative_percent(s.standard_uncertainty, s.estimate),
+            format!(
+                "{} %",
+                significant(100.0 * r.relative_expanded_uncertainty, 2)
+            ),
+            format!(
+                "[{}, {}]",
+                fixed(s.symmetric_interval.0 / unit.factor, e),
+                fixed(s.symmetric_interval.1 / unit.factor, e)
+            ),
+            top.join(", "),
+            noise,
+            time,
+        ]);
+    }
+    out.push_str(&t.render());
+    out.push_str(&format!(
+        "noise floor: {}\n\n",
+        crate::scenario::PSD_CONVENTION
+    ));
+    let laser = c.rows.iter().any(|r| r.findings.laser);
+    for line in cautions(laser) {
+        out.push_str(line);
+        out.push('\n');
+    }
+    out
+}
+
+/// The plan.
+pub fn plan(p: &PlanFinding) -> String {
+    let f = &p.verification;
+    let m = &f.measurands[p.measurand];
+    let mut out = String::new();
+    out.push_str(&format!(
+        "Plan for `{}` of {}: target {} of {}; now {}\n\n",
+        m.name,
+        f.title,
+        target_words(p, f.coverage),
+        target_value(p, p.spec.value),
+        target_value(p, p.current)
+    ));
+    out.push_str("What each input alone would need (first-order budget of JCGM 100, the other inputs unchanged):\n");
+    let mut t = TextTable::new(
+        &[
+            "input",
+            "u now",
+            "u needed alone",
+            "factor",
+            "or: floor the others leave",
+        ],
+        &[false, true, true, true, false],
+    );
+    for a in &p.proposal.alone {
+        let q = &f.inputs[a.input];
+        let show = |u: f64| {
+            let unit = &q.shown_unit;
+            format!("{} {}", significant(u / unit.factor, 3), unit.symbol)
+                .trim_end()
+                .to_string()
+        };
+        t.row(vec![
+            q.name.clone(),
+            show(a.current),
+            a.needed.map_or("cannot reach alone".into(), show),
+            a.needed
+                .map_or("-".into(), |n| significant(a.current / n, 3)),
+            if a.needed.is_none() {
+                target_value(p, a.floor)
+            } else {
+                String::new()
+            },
+        ]);
+    }
+    out.push_str(&t.render());
+    out.push_str(&format!("\nThe plan: {}.\n", p.proposal.explanation));
+    for c in &p.proposal.changes {
+        let q = &f.inputs[c.input];
+        let unit = &q.shown_unit;
+        let hint = if q.name == "noise_force" {
+            format!(
+                " (average {} times longer)",
+                significant(c.factor * c.factor, 3)
+            )
+        } else {
+            String::new()
+        };
+        out.push_str(&format!(
+            "  {}: u from {} to {} {} (improve by a factor {}){hint}\n",
+            q.name,
+            significant(c.from / unit.factor, 3),
+            significant(c.to / unit.factor, 3),
+            unit.symbol,
+            significant(c.factor, 3)
+        ));
+    }
+    if p.checks > 0 {
+        out.push_str(&format!(
+            "\nChecked by a Monte Carlo run with the improved inputs ({} trials, seed {}{}): achieved {} against the target {}: {}\n",
+            grouped(f.trials),
+            f.seed,
+            if p.checks > 1 { format!(", planned again for a tighter target {} times", p.checks - 1) } else { String::new() },
+            target_value(p, p.achieved),
+            target_value(p, p.spec.value),
+            if p.met { "met" } else { "NOT met" }
+        ));
+    } else {
+        out.push_str(&format!(
+            "\nTarget {}.\n",
+            if p.met {
+                "met already"
+            } else {
+                "not reachable by improving inputs"
+            }
+        ));
+    }
+    out.push('\n');
+    for line in cautions(f.laser) {
+        out.push_str(line);
+        out.push('\n');
+    }
+    out
+}

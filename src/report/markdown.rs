@@ -1,0 +1,427 @@
+//! The proposal-ready report: a paragraph in plain words that a grant writer can paste, the
+//! tables, the figures, the method with JCGM 100/101 cited, and the cautions.
+
+use super::cautions::cautions;
+use super::decisions_text::{target_value, target_words};
+use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
+use super::text::{grouped, percent};
+use crate::analysis::planning::{Comparison, PlanFinding};
+use crate::analysis::{Findings, MeasurandFinding};
+
+/// Where the figures are, to link them.
+#[derive(Clone, Debug, Default)]
+pub struct MarkdownReport {
+    /// The folder given to `--plots`, as written.
+    pub figures: Option<String>,
+}
+
+fn table(headers: &[&str], rows: &[Vec<String>]) -> String {
+    let mut out = format!(
+        "| {} |\n|{}|\n",
+        headers.join(" | "),
+        headers.iter().map(|_| "---").collect::<Vec<_>>().join("|")
+    );
+    for r in rows {
+        out.push_str(&format!("| {} |\n", r.join(" | ")));
+    }
+    out
+}
+
+fn shares_sentence(f: &Findings, m: &MeasurandFinding) -> String {
+    let parts: Vec<String> = m
+        .budget
+        .iter()
+        .take(3)
+        .filter(|b| b.share >= 0.005)
+        .map(|b| format!("{:.0} % from {}", 100.0 * b.share, f.inputs[b.input].name))
+        .collect();
+    let _ = f;
+    match parts.as_slice() {
+        [] => String::new(),
+        [one] => format!(
+            " {} of the variance comes from {}.",
+            one.split(" from ").next().unwrap_or(""),
+            one.split(" from ").nth(1).unwrap_or("")
+        ),
+        [first, rest @ ..] => {
+            let (head, tail) = first.split_once(" from ").unwrap_or((first, ""));
+            let (last, middle) = rest
+                .split_last()
+                .map_or((String::new(), Vec::new()), |(l, m)| {
+                    (l.clone(), m.to_vec())
+                });
+            let mut s = format!(" {head} of the variance comes from {tail}");
+            for p in middle {
+                s.push_str(&format!(", {p}"));
+            }
+            format!("{s} and {last}.")
+        }
+    }
+}
+
+/// The plain-words sentence about one measurand.
+pub fn headline(f: &Findings, m: &MeasurandFinding) -> String {
+    let s = &m.monte_carlo;
+    let unit = measurand_unit(m);
+    let (y, u, _) = value_and_uncertainty(
+        s.estimate / unit.factor,
+        s.standard_uncertainty / unit.factor,
+    );
+    let rel_u = relative_percent(s.expanded_uncertainty, s.estimate);
+    let k = s
+        .coverage_factor
+        .map_or("-".to_string(), |k| format!("{k:.2}"));
+    let what = if m.name == "power" {
+        format!("a beam of about {y} {} is measured", unit.symbol)
+    } else {
+        format!(
+            "the {} is estimated as {y} {}",
+            m.name.replace('_', " "),
+            unit.symbol
+        )
+    };
+    let rel = if rel_u == "-" {
+        format!(
+            "an expanded uncertainty of {} {}",
+            value_and_uncertainty(0.0, s.expanded_uncertainty / unit.factor).1,
+            unit.symbol
+        )
+    } else {
+        format!("a relative expanded uncertainty of {rel_u}")
+    };
+    format!(
+        "With the design \u{201c}{}\u{201d}, {what} with {rel} (k = {k}, {} coverage probability; standard uncertainty {u} {}).{}",
+        f.title,
+        percent(f.coverage),
+        unit.symbol,
+        shares_sentence(f, m)
+    )
+}
+
+const METHOD: &str = "The uncertainty was evaluated by the Monte Carlo method of JCGM 101:2008 (Supplement 1 to the GUM, propagation of distributions): every input quantity was drawn from its stated probability distribution, the measurement model evaluated for each draw, and the estimate, standard uncertainty and coverage intervals taken from the model values (JCGM 101 7.5 to 7.7). The law of propagation of uncertainty of JCGM 100:2008 (GUM) was applied beside it, with exact sensitivity coefficients, and validated against the Monte Carlo result as JCGM 101 clause 8 describes. Uncertainties are rounded to two significant digits (JCGM 100 7.2.6).";
+
+impl MarkdownReport {
+    fn figures_section(&self, names: &[(String, String)]) -> String {
+        let Some(dir) = &self.figures else {
+            return String::new();
+        };
+        if names.is_empty() {
+            return String::new();
+        }
+        let mut out = "\n## Figures\n\n".to_string();
+        for (file, caption) in names {
+            out.push_str(&format!("![{caption}]({dir}/{file})\n\n"));
+        }
+        out
+    }
+
+    fn cautions(laser: bool) -> String {
+        let mut out = "\n## Cautions\n\n".to_string();
+        for c in cautions(laser) {
+            out.push_str(&format!("- {c}\n"));
+        }
+        out
+    }
+
+    /// The report of a run.
+    pub fn report(&self, f: &Findings) -> String {
+        let mut out = format!("# {}\n\n", f.title);
+        for m in &f.measurands {
+            out.push_str(&headline(f, m));
+            out.push_str("\n\n");
+        }
+        let p = percent(f.coverage);
+        out.push_str(&format!(
+            "## Results (Monte Carlo method, JCGM 101:2008; M = {} trials, seed {})\n\n",
+            grouped(f.trials),
+            f.seed
+        ));
+        let rows: Vec<Vec<String>> = f
+            .measurands
+            .iter()
+            .map(|m| {
+                let unit = measurand_unit(m);
+                let s = &m.monte_carlo;
+                let (y, u, e) = value_and_uncertainty(
+                    s.estimate / unit.factor,
+                    s.standard_uncertainty / unit.factor,
+                );
+                let iv = |(a, b): (f64, f64)| {
+                    format!(
+                        "[{}, {}]",
+                        fixed(a / unit.factor, e),
+                        fixed(b / unit.factor, e)
+                    )
+                };
+                vec![
+                    m.name.clone(),
+                    unit.symbol.clone(),
+                    y,
+                    u,
+                    relative_percent(s.standard_uncertainty, s.estimate),
+                    iv(s.symmetric_interval),
+                    iv(s.shortest_interval),
+                    s.coverage_factor.map_or("-".into(), |k| format!("{k:.2}")),
+                ]
+            })
+            .collect();
+        out.push_str(&table(
+            &[
+                "measurand",
+                "unit",
+                "estimate",
+                "u",
+                "u rel.",
+                &format!("{p} interval (symmetric)"),
+                &format!("{p} interval (shortest)"),
+                "k",
+            ],
+            &rows,
+        ));
+        for m in f.measurands.iter().filter(|m| !m.budget.is_empty()) {
+            let unit = measurand_unit(m);
+            out.push_str(&format!(
+                "\n## Uncertainty budget of {} ({})\n\n",
+                m.name, unit.symbol
+            ));
+            if let (Some(l), Some(v)) = (&m.lpu, &m.validation) {
+                out.push_str(&format!(
+                    "Law of propagation (JCGM 100:2008): u_c = {} {}{}, effective degrees of freedom {}, k = {:.3}; {} against the Monte Carlo result (JCGM 101 clause 8, delta = {} {}).\n\n",
+                    value_and_uncertainty(0.0, l.standard_uncertainty / unit.factor).1,
+                    unit.symbol,
+                    l.higher_order_standard_uncertainty.map_or(String::new(), |h| format!(" ({} with the higher-order terms)", value_and_uncertainty(0.0, h / unit.factor).1)),
+                    if l.effective_dof.is_finite() { format!("{:.0}", l.effective_dof.floor()) } else { "infinite".into() },
+                    l.coverage_factor,
+                    if v.first_order.validated { "validated" } else { "not validated" },
+                    significant(v.first_order.delta / unit.factor, 1),
+                    unit.symbol
+                ));
+            }
+            let rows: Vec<Vec<String>> = m
+                .budget
+                .iter()
+                .map(|b| {
+                    let q = &f.inputs[b.input];
+                    let (est, u, shown) = super::format::input_pair(
+                        b.estimate,
+                        Some(b.standard_uncertainty),
+                        &q.shown_unit,
+                        q.dimension,
+                    );
+                    vec![
+                        q.name.clone(),
+                        q.distribution.clone(),
+                        format!("{est} {shown}").trim().to_string(),
+                        format!("{u} {shown}").trim().to_string(),
+                        format!(
+                            "{} {}",
+                            significant(b.contribution / unit.factor, 2),
+                            unit.symbol
+                        ),
+                        format!("{:.1} %", 100.0 * b.share),
+                    ]
+                })
+                .collect();
+            out.push_str(&table(
+                &[
+                    "input",
+                    "distribution",
+                    "estimate",
+                    "u(x)",
+                    "contribution",
+                    "share",
+                ],
+                &rows,
+            ));
+        }
+        if let Some(n) = &f.noise {
+            out.push_str(&format!(
+                "\n## Noise floor\n\nForce noise density {}/sqrt(Hz) at the estimates; averaged for {}, it leaves a force resolution of {}, which enters the budget as `noise_force`. Convention: {}.\n",
+                super::text::force_text(n.density),
+                super::text::duration(n.averaging_time),
+                super::text::force_text(n.resolution),
+                crate::scenario::PSD_CONVENTION
+            ));
+        }
+        out.push_str(&self.figures_section(&super::plots::figure_names(f)));
+        out.push_str(&format!(
+            "\n## Method\n\n{METHOD} Random streams: {}.\n",
+            f.generator
+        ));
+        out.push_str(&Self::cautions(f.laser));
+        out
+    }
+
+    /// The report of a comparison.
+    pub fn comparison(&self, c: &Comparison) -> String {
+        let mut order: Vec<usize> = (0..c.rows.len()).collect();
+        order.sort_by_key(|i| c.rows[*i].rank);
+        let best = &c.rows[order[0]];
+        let m = &best.findings.measurands[best.measurand];
+        let mut out = format!("# Designs compared on `{}`\n\n", m.name);
+        let others: Vec<String> = order[1..]
+            .iter()
+            .map(|i| {
+                format!(
+                    "{} % with {}",
+                    significant(100.0 * c.rows[*i].relative_expanded_uncertainty, 2),
+                    c.rows[*i].name
+                )
+            })
+            .collect();
+        out.push_str(&format!(
+            "Of {} designs, {} reaches the smallest relative expanded uncertainty of `{}`: {} % ({} coverage probability){}. All designs were evaluated with the same {} Monte Carlo trials and seed {}, so the comparison is paired.\n\n",
+            c.rows.len(),
+            best.name,
+            m.name,
+            significant(100.0 * best.relative_expanded_uncertainty, 2),
+            percent(c.coverage),
+            if others.is_empty() { String::new() } else { format!(", against {}", others.join(", ")) },
+            grouped(c.trials),
+            c.seed
+        ));
+        for i in &order {
+            let r = &c.rows[*i];
+            out.push_str(&format!(
+                "- {}\n",
+                headline(&r.findings, &r.findings.measurands[r.measurand])
+            ));
+        }
+        out.push('\n');
+        let rows: Vec<Vec<String>> = order
+            .iter()
+            .map(|i| {
+                let r = &c.rows[*i];
+                let mf = &r.findings.measurands[r.measurand];
+                let unit = measurand_unit(mf);
+                let s = &r.summary;
+                let (y, u, _) = value_and_uncertainty(
+                    s.estimate / unit.factor,
+                    s.standard_uncertainty / unit.factor,
+                );
+                vec![
+                    format!("{}", r.rank),
+                    r.name.clone(),
+                    format!("{y} {}", unit.symbol),
+                    format!("{u} {}", unit.symbol),
+                    format!(
+                        "{} %",
+                        significant(100.0 * r.relative_expanded_uncertainty, 2)
+                    ),
+                    r.top
+                        .iter()
+                        .map(|(n, sh)| format!("{n} ({:.0} %)", 100.0 * sh))
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                ]
+            })
+            .collect();
+        out.push_str(&table(
+            &[
+                "rank",
+                "design",
+                "estimate",
+                "u",
+                "relative U",
+                "largest contributors",
+            ],
+            &rows,
+        ));
+        if let Some(dir) = &self.figures {
+            out.push_str(&format!(
+                "\n![Coverage intervals of the designs]({dir}/comparison.svg)\n"
+            ));
+        }
+        out.push_str(&format!("\n## Method\n\n{METHOD}\n"));
+        out.push_str(&Self::cautions(c.rows.iter().any(|r| r.findings.laser)));
+        out
+    }
+
+    /// The report of a plan.
+    pub fn plan(&self, p: &PlanFinding) -> String {
+        let f = &p.verification;
+        let m = &f.measurands[p.measurand];
+        let mut out = format!(
+            "# Plan: {} of `{}` for {}\n\n",
+            target_words(p, f.coverage),
+            m.name,
+            f.title
+        );
+        let changes: Vec<String> = p
+            .proposal
+            .changes
+            .iter()
+            .map(|c| {
+                format!(
+                    "{} by a factor {}",
+                    f.inputs[c.input].name,
+                    significant(c.factor, 2)
+                )
+            })
+            .collect();
+        let verdict = if p.proposal.changes.is_empty() {
+            if p.met {
+                "The current design already meets it.".to_string()
+            } else {
+                p.proposal.explanation.clone() + "."
+            }
+        } else {
+            format!(
+                "Improving the standard uncertainty of {} brings it to {} in a Monte Carlo check with the improved inputs ({} trials): the target is {}.",
+                changes.join(" and "),
+                target_value(p, p.achieved),
+                grouped(f.trials),
+                if p.met { "met" } else { "not met" }
+            )
+        };
+        out.push_str(&format!(
+            "The target is a {} of {}; the design reaches {} today. {verdict}\n\n",
+            target_words(p, f.coverage),
+            target_value(p, p.spec.value),
+            target_value(p, p.current)
+        ));
+        let rows: Vec<Vec<String>> = p
+            .proposal
+            .alone
+            .iter()
+            .map(|a| {
+                let q = &f.inputs[a.input];
+                let show = |u: f64| {
+                    format!(
+                        "{} {}",
+                        significant(u / q.shown_unit.factor, 3),
+                        q.shown_unit.symbol
+                    )
+                    .trim()
+                    .to_string()
+                };
+                vec![
+                    q.name.clone(),
+                    show(a.current),
+                    a.needed.map_or("cannot reach alone".into(), show),
+                    if a.needed.is_none() {
+                        target_value(p, a.floor)
+                    } else {
+                        "-".into()
+                    },
+                ]
+            })
+            .collect();
+        out.push_str(&table(
+            &[
+                "input",
+                "u now",
+                "u needed alone",
+                "floor left by the others",
+            ],
+            &rows,
+        ));
+        out.push_str(&format!(
+            "\nHow the plan was chosen: {}.\n",
+            p.proposal.explanation
+        ));
+        out.push_str(&format!("\n## Method\n\n{METHOD} The plan uses the first-order uncertainty budget and is then checked by a Monte Carlo run.\n"));
+        out.push_str(&Self::cautions(f.laser));
+        out
+    }
+}

@@ -1,0 +1,277 @@
+//! The `[noise]` table: the noise floor of the balance and readout, averaged over
+//! `averaging_time`, turned into an input quantity `noise_force` ~ N(0, sigma_F) that the chain
+//! adds to its force (so it shows in the budget and the sensitivity ranking).
+//!
+//! Force noise densities (one-sided, N/sqrt(Hz); physics::noise): thermal torque noise of the
+//! pendulum over the lever arm, sqrt(S_tau)/L; an optical-lever angle noise theta_n as
+//! kappa theta_n / L; a balance's own force noise density; photon shot noise
+//! F sqrt(2 h c / (lambda P)). They add in quadrature, and averaging for t leaves
+//! sigma_F = sqrt(S_F / (2 t)).
+
+use super::inputs::{InputQuantity, Law};
+use super::table::{Entry, Table};
+use crate::dist::{Distribution, Normal};
+use crate::error::InputError;
+use crate::model::ChainKind;
+use crate::physics::noise::{
+    Damping, readout_torque_psd, resolution_after, shot_force_psd, thermal_torque_psd,
+    time_for_resolution,
+};
+use crate::physics::torsion::{damping_corrected, torsion_constant_from_period};
+use crate::units::{Dimension, DisplayUnit, parse_quantity};
+use toml::de::DeValue;
+
+/// The PSD convention, printed beside every noise floor.
+pub const PSD_CONVENTION: &str = "one-sided power spectral densities; the resolution after averaging for a time t is sqrt(S_F / (2 t)) (some authors quote sqrt(S_F / t), which is larger by sqrt 2)";
+
+/// What the `[noise]` table asked for.
+#[derive(Clone, Debug, PartialEq)]
+pub struct NoiseSettings {
+    /// Averaging time t, s.
+    pub averaging_time: f64,
+    /// Temperature of the pendulum, K.
+    pub temperature: Option<f64>,
+    /// Damping model of the pendulum.
+    pub damping: Damping,
+    /// Signal frequency, Hz (structural damping).
+    pub signal_frequency: Option<f64>,
+    /// Optical-lever angle noise density, rad/sqrt(Hz).
+    pub readout_angle_noise: Option<f64>,
+    /// A balance's (or any added) force noise density, N/sqrt(Hz).
+    pub force_noise: Option<f64>,
+    /// Laser wavelength for the shot noise, m.
+    pub wavelength: Option<f64>,
+    /// Force resolution to report the averaging time for: absolute (N) or relative to the force.
+    pub target: Target,
+}
+
+/// A force-resolution target.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Target {
+    /// In newtons.
+    Absolute(f64),
+    /// A fraction of the radiation force.
+    Relative(f64),
+}
+
+/// The noise floor at the input estimates.
+#[derive(Clone, Debug, PartialEq)]
+pub struct NoiseFloor {
+    /// Each contribution as (name, force noise density in N/sqrt(Hz)).
+    pub components: Vec<(&'static str, f64)>,
+    /// Total force noise density, N/sqrt(Hz).
+    pub density: f64,
+    /// Averaging time t, s.
+    pub averaging_time: f64,
+    /// Force resolution sigma_F = sqrt(S_F / (2 t)), N: the standard deviation of `noise_force`.
+    pub resolution: f64,
+    /// The radiation force at the estimates, N.
+    pub force: f64,
+    /// The target force resolution, N.
+    pub target_resolution: f64,
+    /// The averaging time that reaches it, s.
+    pub time_for_target: f64,
+}
+
+const EXAMPLE: &str = "[noise]\naveraging_time = \"100 s\"\ntemperature = \"295 K\"\ndamping = \"structural\"\nsignal_frequency = \"10 mHz\"\nreadout_angle_noise = \"2 nrad\"   # per sqrt(Hz)\nwavelength = \"1064 nm\"";
+
+fn quantity(e: &Entry<'_, '_>, dim: Dimension, what: &str) -> Result<f64, InputError> {
+    let example = format!("{} = {}", e.key, dim.example());
+    let v = match e.value.get_ref() {
+        DeValue::String(s) => {
+            let q = parse_quantity(s)
+                .map_err(|err| e.error(format!("cannot read {:?}: {err}", s.as_ref()), &example))?;
+            if let Some(u) = &q.unit
+                && u.dimension != dim
+            {
+                return Err(e.error(
+                    format!("{what} is {}, not {}", dim.kind(), u.dimension.kind()),
+                    &example,
+                ));
+            }
+            q.si
+        }
+        _ => e.number(&example)?,
+    };
+    if v.is_nan() || v <= 0.0 {
+        return Err(e.error(format!("{what} must be greater than 0 (got {v})"), &example));
+    }
+    Ok(v)
+}
+
+/// Read `[noise]`.
+pub fn read_noise(t: &Table<'_, '_>) -> Result<NoiseSettings, InputError> {
+    t.check_keys(
+        &[
+            "averaging_time",
+            "temperature",
+            "damping",
+            "signal_frequency",
+            "readout_angle_noise",
+            "force_noise",
+            "wavelength",
+            "target_resolution",
+        ],
+        EXAMPLE,
+    )?;
+    let get = |k: &str, dim: Dimension, what: &str| -> Result<Option<f64>, InputError> {
+        t.get(k).map(|e| quantity(&e, dim, what)).transpose()
+    };
+    let averaging_time = quantity(
+        &t.require("averaging_time", EXAMPLE)?,
+        Dimension::TIME,
+        "the averaging time",
+    )?;
+    let damping = match t.get("damping") {
+        None => Damping::Structural,
+        Some(e) => match e.string("damping = \"structural\"")? {
+            "structural" => Damping::Structural,
+            "viscous" => Damping::Viscous,
+            other => {
+                return Err(e.error(format!("unknown damping {other:?}: \"structural\" (internal friction of the fibre) or \"viscous\" (gas)"), "damping = \"structural\""));
+            }
+        },
+    };
+    let target = match t.get("target_resolution") {
+        None => Target::Relative(1e-3),
+        Some(e) => {
+            let example = "target_resolution = \"0.1 %\"   (of the force)   or   \"1 nN\"";
+            let text = e.string(example)?;
+            let q = parse_quantity(text)
+                .map_err(|err| e.error(format!("cannot read {text:?}: {err}"), example))?;
+            match q.unit.as_ref().map(|u| u.dimension) {
+                Some(d) if d == Dimension::FORCE => Target::Absolute(q.si),
+                Some(d) if d == Dimension::NONE => Target::Relative(q.si),
+                _ => return Err(e.error("a target resolution is a force (\"1 nN\") or a percentage of the force (\"0.1 %\")", example)),
+            }
+        }
+    };
+    match target {
+        Target::Absolute(v) | Target::Relative(v) if v.is_nan() || v <= 0.0 => {
+            return Err(t.error("the target resolution must be greater than 0", EXAMPLE));
+        }
+        _ => {}
+    }
+    Ok(NoiseSettings {
+        averaging_time,
+        temperature: get("temperature", Dimension::TEMPERATURE, "the temperature")?,
+        damping,
+        signal_frequency: get(
+            "signal_frequency",
+            Dimension::FREQUENCY,
+            "the signal frequency",
+        )?,
+        readout_angle_noise: get(
+            "readout_angle_noise",
+            Dimension::ANGLE,
+            "the angle noise density",
+        )?,
+        force_noise: get("force_noise", Dimension::FORCE, "the force noise density")?,
+        wavelength: get("wavelength", Dimension::LENGTH, "the wavelength")?,
+        target,
+    })
+}
+
+/// The noise floor of a chain at the input estimates. `estimate(name)` gives an input's estimate
+/// (or the chain default), `force` and `power` the radiation force and power at the estimates.
+pub fn noise_floor(
+    t: &Table<'_, '_>,
+    s: &NoiseSettings,
+    chain: ChainKind,
+    estimate: &dyn Fn(&str) -> Option<f64>,
+    force: f64,
+    power: f64,
+) -> Result<NoiseFloor, InputError> {
+    let mut components: Vec<(&'static str, f64)> = Vec::new();
+    if chain.is_torsion() {
+        let need = |n: &str| {
+            estimate(n)
+                .ok_or_else(|| t.error(format!("the noise floor needs the input `{n}`"), EXAMPLE))
+        };
+        let (inertia, period, lever) = (
+            need("moment_of_inertia")?,
+            need("free_period")?,
+            need("lever_arm")?,
+        );
+        let q = estimate("quality_factor").filter(|q| q.is_finite());
+        let mut kappa = torsion_constant_from_period(inertia, period);
+        if let Some(q) = q {
+            kappa = damping_corrected(kappa, q);
+        }
+        if let Some(temperature) = s.temperature {
+            let Some(q) = q else {
+                return Err(t.error(
+                    "the thermal noise of the pendulum needs its quality factor: give [inputs.quality_factor] (or leave out `temperature` to ignore thermal noise)",
+                    "[inputs.quality_factor]\nvalue = 3000",
+                ));
+            };
+            let frequency = match (s.damping, s.signal_frequency) {
+                (Damping::Structural, None) => {
+                    return Err(t.error(
+                        "structural damping makes the thermal noise depend on the signal frequency: give `signal_frequency` (the rate at which the beam is switched)",
+                        "signal_frequency = \"10 mHz\"",
+                    ));
+                }
+                (_, f) => f.unwrap_or(0.0),
+            };
+            let psd = thermal_torque_psd(temperature, kappa, q, period, frequency, s.damping);
+            components.push(("thermal (pendulum)", psd.sqrt() / lever));
+        }
+        if let Some(theta) = s.readout_angle_noise {
+            components.push((
+                "readout (optical lever)",
+                readout_torque_psd(kappa, theta).sqrt() / lever,
+            ));
+        }
+    } else if s.temperature.is_some() || s.readout_angle_noise.is_some() {
+        return Err(t.error(
+            "`temperature` and `readout_angle_noise` describe a torsion pendulum; for a balance give its `force_noise` density",
+            "force_noise = \"2 nN\"   # per sqrt(Hz)",
+        ));
+    }
+    if let Some(f) = s.force_noise {
+        components.push(("balance / force readout", f));
+    }
+    if let Some(lambda) = s.wavelength
+        && power > 0.0
+        && force.is_finite()
+    {
+        components.push((
+            "photon shot noise",
+            shot_force_psd(force.abs(), power, lambda).sqrt(),
+        ));
+    }
+    if components.is_empty() {
+        return Err(t.error("[noise] names no noise source: give temperature, readout_angle_noise, force_noise or wavelength", EXAMPLE));
+    }
+    let psd: f64 = components.iter().map(|(_, d)| d * d).sum();
+    let resolution = resolution_after(psd, s.averaging_time);
+    let target_resolution = match s.target {
+        Target::Absolute(v) => v,
+        Target::Relative(r) => r * force.abs(),
+    };
+    Ok(NoiseFloor {
+        components,
+        density: psd.sqrt(),
+        averaging_time: s.averaging_time,
+        resolution,
+        force,
+        target_resolution,
+        time_for_target: time_for_resolution(psd, target_resolution),
+    })
+}
+
+/// The input quantity `noise_force` ~ N(0, sigma_F) made from a noise floor.
+pub fn noise_input(floor: &NoiseFloor, t: &Table<'_, '_>) -> Result<InputQuantity, InputError> {
+    let normal = Normal::new(0.0, floor.resolution)
+        .map_err(|e| t.error(format!("the noise floor is not usable: {e}"), EXAMPLE))?;
+    Ok(InputQuantity {
+        name: "noise_force".to_string(),
+        law: Law::Distributed(Distribution::Normal(normal)),
+        dof: None,
+        dimension: Some(Dimension::FORCE),
+        shown_unit: DisplayUnit::si(Dimension::FORCE),
+        note: Some("force noise left after averaging, from [noise]".to_string()),
+        span: t.span.clone(),
+    })
+}
