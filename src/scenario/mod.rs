@@ -780,11 +780,22 @@ impl<'a, 'i> Loader<'a, 'i> {
                 }
             }
             if !missing.is_empty() {
+                let strangers: Vec<&str> = inputs
+                    .iter()
+                    .map(|q| q.name.as_str())
+                    .filter(|n| spec.input_index(n).is_none())
+                    .collect();
                 let list: Vec<String> = missing
                     .iter()
                     .map(|ci| {
+                        let hint = nearest(ci.name, strangers.iter().copied()).map_or(
+                            String::new(),
+                            |n| {
+                                format!("; the scenario defines `{n}`: did you mean `{}`?", ci.name)
+                            },
+                        );
                         format!(
-                            "  {} ({}; {})",
+                            "  {} ({}; {}){hint}",
                             ci.name,
                             ci.description,
                             ci.dimension.kind()
