@@ -44,62 +44,76 @@ const DIRECT_BELOW: usize = 1 << 17;
 /// Size of the subsample that sets the selection threshold.
 const SUBSAMPLE: usize = 1 << 16;
 
-/// The k smallest values, sorted ascending (`upper = false`), or the k largest, sorted
-/// ascending (`upper = true`).
-pub fn tail_sorted(values: &[f64], k: usize, upper: bool) -> Vec<f64> {
+/// The k smallest values and the k largest values, each sorted ascending, from one pass over
+/// the data: thresholds come from an evenly spaced subsample (with a margin of six binomial
+/// standard deviations), the values beyond them are collected in parallel and sorted. If a
+/// threshold was too tight the pass is repeated with a wider margin; small samples are sorted
+/// outright.
+pub fn tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
     let m = values.len();
     let k = k.min(m);
     if k == 0 {
-        return Vec::new();
+        return (Vec::new(), Vec::new());
     }
-    let finish = |mut picked: Vec<f64>| -> Vec<f64> {
-        if upper {
-            let cut = picked.len() - k;
-            if cut > 0 {
-                picked.select_nth_unstable_by(cut, cmp);
-            }
-            let mut top = picked.split_off(cut);
-            top.sort_unstable_by(cmp);
-            top
-        } else {
-            if picked.len() > k {
-                picked.select_nth_unstable_by(k - 1, cmp);
-                picked.truncate(k);
-            }
-            picked.sort_unstable_by(cmp);
-            picked
-        }
+    let whole = || {
+        let mut all = values.to_vec();
+        all.sort_unstable_by(cmp);
+        (all[..k].to_vec(), all[m - k..].to_vec())
     };
     if m < DIRECT_BELOW || k * 8 > m {
-        return finish(values.to_vec());
+        return whole();
     }
     let step = m / SUBSAMPLE;
-    let mut sample: Vec<f64> = (0..SUBSAMPLE).map(|i| values[i * step]).collect();
-    sample.sort_unstable_by(cmp);
+    let sample: Vec<f64> = (0..SUBSAMPLE).map(|i| values[i * step]).collect();
     let frac = k as f64 / m as f64;
     let s = SUBSAMPLE as f64;
     let mut margin = 6.0 * (s * frac * (1.0 - frac)).sqrt() + 16.0;
     loop {
         let expected = frac * s + margin;
-        if expected >= s - 1.0 {
-            return finish(values.to_vec());
+        if expected >= 0.5 * s {
+            return whole();
         }
         let idx = expected.ceil() as usize;
-        let picked: Vec<f64> = if upper {
-            let threshold = sample[SUBSAMPLE - 1 - idx];
-            values
-                .par_chunks(1 << 16)
-                .flat_map_iter(|c| c.iter().copied().filter(move |&x| x >= threshold))
-                .collect()
-        } else {
-            let threshold = sample[idx];
-            values
-                .par_chunks(1 << 16)
-                .flat_map_iter(|c| c.iter().copied().filter(move |&x| x <= threshold))
-                .collect()
-        };
-        if picked.len() >= k {
-            return finish(picked);
+        // Two selections (linear time) instead of sorting the subsample.
+        let mut work = sample.clone();
+        let low_t = *work.select_nth_unstable_by(idx, cmp).1;
+        let high_t = *work.select_nth_unstable_by(SUBSAMPLE - 1 - idx, cmp).1;
+        let parts: Vec<(Vec<f64>, Vec<f64>)> = values
+            .par_chunks(1 << 16)
+            .map(|c| {
+                let mut lo = Vec::new();
+                let mut hi = Vec::new();
+                for &x in c {
+                    if x <= low_t {
+                        lo.push(x);
+                    } else if x >= high_t {
+                        hi.push(x);
+                    }
+                }
+                (lo, hi)
+            })
+            .collect();
+        let mut lo: Vec<f64> = Vec::with_capacity(parts.iter().map(|p| p.0.len()).sum());
+        let mut hi: Vec<f64> = Vec::with_capacity(parts.iter().map(|p| p.1.len()).sum());
+        for (a, b) in parts {
+            lo.extend_from_slice(&a);
+            hi.extend_from_slice(&b);
+        }
+        if lo.len() >= k && hi.len() >= k {
+            let (lo, hi) = rayon::join(
+                || {
+                    let mut lo = lo;
+                    lo.sort_unstable_by(cmp);
+                    lo.truncate(k);
+                    lo
+                },
+                || {
+                    let mut hi = hi;
+                    hi.sort_unstable_by(cmp);
+                    hi.split_off(hi.len() - k)
+                },
+            );
+            return (lo, hi);
         }
         margin *= 4.0;
     }
@@ -114,8 +128,7 @@ pub fn coverage_intervals(values: &[f64], p: f64) -> CoverageIntervals {
         k >= 1,
         "coverage interval needs M - q >= 1 (checked at load)"
     );
-    let low = tail_sorted(values, k, false);
-    let high = tail_sorted(values, k, true);
+    let (low, high) = tails(values, k);
     // low[j] = y(j+1) and high[j] = y(q+j+1): the interval with r = j + 1.
     let r = symmetric_r(m, q);
     let symmetric = (low[r - 1], high[r - 1]);

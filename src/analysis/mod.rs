@@ -214,7 +214,20 @@ fn input_finding(q: &InputQuantity) -> InputFinding {
     }
 }
 
-/// Pearson correlation matrix of columns, from per-chunk joint moments merged in chunk order.
+/// Pearson correlation matrix of `n` measurands from their merged joint moments (in the order of
+/// `engine::measurand_pair_order`).
+pub fn correlation_from_pairs(n: usize, pairs: &[CoMoments]) -> Vec<Vec<f64>> {
+    let mut out = vec![vec![1.0; n]; n];
+    for ((a, b), c) in engine::measurand_pair_order(n).into_iter().zip(pairs) {
+        let r = c.correlation().unwrap_or(0.0);
+        out[a][b] = r;
+        out[b][a] = r;
+    }
+    out
+}
+
+/// Pearson correlation matrix of columns, from per-chunk joint moments merged in chunk order
+/// (the same numbers as [`correlation_from_pairs`] on the engine's pairs).
 pub fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
     let n = columns.len();
     let mut out = vec![vec![1.0; n]; n];
@@ -239,12 +252,19 @@ pub fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
 pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>) -> Findings {
     let lpu = lpu::propagate(study);
     let mut warnings = study.warnings.clone();
+    // The Monte Carlo summaries of the measurands, in parallel (each is deterministic).
+    let summaries: Vec<Summary> = samples
+        .measurands
+        .par_iter()
+        .zip(samples.moments.par_iter())
+        .map(|(col, mo)| summarize(col, mo, study.coverage))
+        .collect();
     let measurands: Vec<MeasurandFinding> = study
         .measurands
         .iter()
         .enumerate()
         .map(|(i, m)| {
-            let mc = summarize(&samples.measurands[i], &samples.moments[i], study.coverage);
+            let mc = summaries[i];
             let factor = study.reporting_factor(i);
             let lpu_m = lpu.measurands[i].clone();
             if lpu_m.is_none() {
@@ -297,7 +317,7 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
             .collect();
         MeasurandCorrelation {
             names: measurands.iter().map(|m| m.name.clone()).collect(),
-            monte_carlo: sample_correlation(&samples.measurands),
+            monte_carlo: correlation_from_pairs(measurands.len(), &samples.measurand_pairs),
             lpu: lpu_corr,
         }
     });

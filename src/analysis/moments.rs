@@ -1,7 +1,7 @@
 //! Mean and sum of squared deviations, computed per chunk and combined in a fixed order.
 //!
-//! Within a chunk: the mean by compensated (Neumaier) summation, then M2 = sum (y - mean)^2 over
-//! the chunk (two passes, the chunk is in cache). Chunks combine by the pairwise update of Chan,
+//! Within a chunk: the mean, then M2 = sum (y - mean)^2 over the chunk (two passes, the chunk is in
+//! cache; see [`joint_moments`]). Chunks combine by the pairwise update of Chan,
 //! Golub and LeVeque (Am. Stat. 37, 242, 1983): with d = mean_b - mean_a and n = n_a + n_b,
 //! mean = mean_a + d n_b / n, M2 = M2_a + M2_b + d^2 n_a n_b / n.
 
@@ -40,27 +40,9 @@ impl Moments {
         m2: 0.0,
     };
 
-    /// Moments of a slice.
+    /// Moments of a slice (see [`joint_moments`], of which this is the one-column case).
     pub fn of(values: &[f64]) -> Moments {
-        if values.is_empty() {
-            return Moments::EMPTY;
-        }
-        let n = values.len() as f64;
-        let mean = compensated_sum(values) / n;
-        let mut m2 = 0.0;
-        let mut comp = 0.0;
-        for &x in values {
-            let d = x - mean;
-            m2 += d * d;
-            comp += d;
-        }
-        // Correct for the rounding of the mean (the sum of deviations would be 0 exactly).
-        m2 -= comp * comp / n;
-        Moments {
-            count: values.len() as u64,
-            mean,
-            m2: m2.max(0.0),
-        }
+        joint_moments(&[values]).0[0]
     }
 
     /// Combine with the moments of the values that follow.
@@ -121,29 +103,10 @@ impl CoMoments {
         cxy: 0.0,
     };
 
-    /// Joint moments of two equally long slices (two passes).
+    /// Joint moments of two equally long slices (see [`joint_moments`]).
     pub fn of(x: &[f64], y: &[f64]) -> CoMoments {
         let n = x.len().min(y.len());
-        if n == 0 {
-            return CoMoments::EMPTY;
-        }
-        let mx = compensated_sum(&x[..n]) / n as f64;
-        let my = compensated_sum(&y[..n]) / n as f64;
-        let (mut sxx, mut syy, mut sxy) = (0.0, 0.0, 0.0);
-        for (a, b) in x[..n].iter().zip(&y[..n]) {
-            let (dx, dy) = (a - mx, b - my);
-            sxx += dx * dx;
-            syy += dy * dy;
-            sxy += dx * dy;
-        }
-        CoMoments {
-            count: n as u64,
-            mean_x: mx,
-            mean_y: my,
-            m2x: sxx,
-            m2y: syy,
-            cxy: sxy,
-        }
+        joint_moments(&[&x[..n], &y[..n]]).1[0]
     }
 
     /// Combine with the joint moments of the pairs that follow.
@@ -175,6 +138,80 @@ impl CoMoments {
     }
 }
 
+/// Lanes of the independent partial sums below (a fixed number, so the result does not depend on
+/// the machine).
+const LANES: usize = 8;
+
+/// sum f(x_i, y_i) over `LANES` interleaved partial sums, added up in a fixed order at the end
+/// (vectorisable; the same result on every machine).
+#[inline(always)]
+fn lane_sum(x: &[f64], y: &[f64], f: impl Fn(f64, f64) -> f64) -> f64 {
+    let mut acc = [0.0f64; LANES];
+    let xs = x.chunks_exact(LANES);
+    let ys = y.chunks_exact(LANES);
+    let (xr, yr) = (xs.remainder(), ys.remainder());
+    for (cx, cy) in xs.zip(ys) {
+        for l in 0..LANES {
+            acc[l] += f(cx[l], cy[l]);
+        }
+    }
+    let mut tail = 0.0;
+    for (a, b) in xr.iter().zip(yr) {
+        tail += f(*a, *b);
+    }
+    ((acc[0] + acc[1]) + (acc[2] + acc[3])) + ((acc[4] + acc[5]) + (acc[6] + acc[7])) + tail
+}
+
+/// Moments of every column and joint moments of every pair (a < b, in the order (0,1), (0,2),
+/// ..., (1,2), ...) of equally long columns, in two passes: the mean as the first value plus the
+/// mean of the differences from it (which keeps the sum small beside the values), then the
+/// squared deviations, their sum (to correct the mean's rounding: m2 -= (sum d)^2 / n) and the
+/// products of deviations. Partial sums run in fixed lanes, so the results are the same on every
+/// machine and thread count.
+pub fn joint_moments(cols: &[&[f64]]) -> (Vec<Moments>, Vec<CoMoments>) {
+    let k = cols.len();
+    let n = cols.first().map_or(0, |c| c.len());
+    if n == 0 {
+        return (vec![Moments::EMPTY; k], vec![CoMoments::EMPTY; k * k.saturating_sub(1) / 2]);
+    }
+    let nf = n as f64;
+    let means: Vec<f64> = cols
+        .iter()
+        .map(|c| {
+            let shift = c[0];
+            shift + lane_sum(c, c, |v, _| v - shift) / nf
+        })
+        .collect();
+    let mut moments = Vec::with_capacity(k);
+    let mut comp = Vec::with_capacity(k);
+    for (c, &m) in cols.iter().zip(&means) {
+        let sum_d = lane_sum(c, c, |v, _| v - m);
+        let m2 = lane_sum(c, c, |v, _| (v - m) * (v - m));
+        comp.push(sum_d);
+        moments.push(Moments {
+            count: n as u64,
+            mean: m,
+            m2: (m2 - sum_d * sum_d / nf).max(0.0),
+        });
+    }
+    let mut co = Vec::with_capacity(k * k.saturating_sub(1) / 2);
+    for a in 0..k {
+        for b in a + 1..k {
+            let (x, y, mx, my) = (cols[a], cols[b], means[a], means[b]);
+            let cxy = lane_sum(x, y, |u, v| (u - mx) * (v - my));
+            co.push(CoMoments {
+                count: n as u64,
+                mean_x: mx,
+                mean_y: my,
+                m2x: moments[a].m2,
+                m2y: moments[b].m2,
+                cxy: cxy - comp[a] * comp[b] / nf,
+            });
+        }
+    }
+    (moments, co)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -197,6 +234,20 @@ mod tests {
         let var =
             values.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (values.len() - 1) as f64;
         assert_relative_eq!(whole.variance(), var, max_relative = 1e-9);
+    }
+
+    #[test]
+    fn joint_moments_agree_with_the_separate_ones() {
+        let x: Vec<f64> = (0..3000).map(|i| 1e3 + ((i * 37) % 101) as f64 * 0.1).collect();
+        let y: Vec<f64> = x.iter().enumerate().map(|(i, v)| -0.5 * v + ((i * 13) % 7) as f64).collect();
+        let z: Vec<f64> = (0..3000).map(|i| ((i * 7919) % 1000) as f64).collect();
+        let (m, c) = joint_moments(&[&x, &y, &z]);
+        assert_eq!(m[0], Moments::of(&x));
+        assert_eq!(m[1], Moments::of(&y));
+        assert_eq!(m[2], Moments::of(&z));
+        let direct = CoMoments::of(&x, &y);
+        assert_relative_eq!(c[0].correlation().unwrap(), direct.correlation().unwrap(), max_relative = 1e-12);
+        assert_relative_eq!(c[2].correlation().unwrap(), CoMoments::of(&y, &z).correlation().unwrap(), max_relative = 1e-12);
     }
 
     #[test]

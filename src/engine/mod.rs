@@ -7,12 +7,13 @@
 //! number computed from them depend on the seed and M only, never on the thread count.
 
 pub mod adaptive;
+pub mod columns;
 pub mod memory;
 pub mod sampling;
 pub mod sensitivity;
 pub mod stream;
 
-use crate::analysis::moments::{CoMoments, Moments};
+use crate::analysis::moments::{CoMoments, Moments, joint_moments};
 use crate::error::RunError;
 use crate::scenario::Study;
 use rayon::prelude::*;
@@ -57,6 +58,14 @@ pub struct Samples {
     /// Joint moments of each correlated input pair (in `study.correlations.pairs` order), for
     /// the achieved sample correlation.
     pub input_pairs: Vec<CoMoments>,
+    /// Joint moments of every pair of measurands (a < b, in the order (0,1), (0,2), ..., (1,2),
+    /// ...), for their correlation matrix; combined in chunk order like the moments.
+    pub measurand_pairs: Vec<CoMoments>,
+}
+
+/// The pairs (a, b), a < b, of `n` measurands in the order of `Samples::measurand_pairs`.
+pub fn measurand_pair_order(n: usize) -> Vec<(usize, usize)> {
+    (0..n).flat_map(|a| (a + 1..n).map(move |b| (a, b))).collect()
 }
 
 impl Samples {
@@ -75,6 +84,9 @@ impl Samples {
             *a = a.merge(b);
         }
         for (a, b) in self.input_pairs.iter_mut().zip(&other.input_pairs) {
+            *a = a.merge(b);
+        }
+        for (a, b) in self.measurand_pairs.iter_mut().zip(&other.measurand_pairs) {
             *a = a.merge(b);
         }
     }
@@ -118,6 +130,7 @@ struct Fault {
 struct ChunkStats {
     moments: Vec<Moments>,
     pairs: Vec<CoMoments>,
+    measurand_pairs: Vec<CoMoments>,
 }
 
 /// Run the trials of `plan` on the current rayon pool.
@@ -132,10 +145,10 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
     let n_meas = model.measurands;
     let n_chunks = m.div_ceil(CHUNK_TRIALS);
 
-    let mut meas_cols: Vec<Vec<f64>> = (0..n_meas).map(|_| vec![0.0; m]).collect();
+    let mut meas_cols: Vec<Vec<f64>> = (0..n_meas).map(|_| columns::column(m)).collect();
     let mut in_cols: Option<Vec<Vec<f64>>> = plan
         .keep_inputs
-        .then(|| (0..n_in).map(|_| vec![0.0; m]).collect());
+        .then(|| (0..n_in).map(|_| columns::column(m)).collect());
 
     let mut per_chunk: Vec<Vec<&mut [f64]>> = (0..n_chunks).map(|_| Vec::new()).collect();
     for col in meas_cols.iter_mut() {
@@ -172,6 +185,7 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
 
     let mut moments = vec![Moments::EMPTY; n_meas];
     let mut input_pairs = vec![CoMoments::EMPTY; study.correlations.pairs.len()];
+    let mut measurand_pairs = vec![CoMoments::EMPTY; measurand_pair_order(n_meas).len()];
     for r in results {
         match r {
             Ok(chunk) => {
@@ -179,6 +193,9 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
                     *total = total.merge(part);
                 }
                 for (total, part) in input_pairs.iter_mut().zip(&chunk.pairs) {
+                    *total = total.merge(part);
+                }
+                for (total, part) in measurand_pairs.iter_mut().zip(&chunk.measurand_pairs) {
                     *total = total.merge(part);
                 }
             }
@@ -205,6 +222,7 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
         inputs: in_cols,
         moments,
         input_pairs,
+        measurand_pairs,
     })
 }
 
@@ -256,9 +274,12 @@ fn run_chunk(
         }
         start += b;
     }
+    let cols: Vec<&[f64]> = outs.iter().map(|o| &**o).collect();
+    let (moments, measurand_pairs) = joint_moments(&cols);
     Ok(ChunkStats {
-        moments: outs.iter().map(|o| Moments::of(o)).collect(),
+        moments,
         pairs: pair_stats,
+        measurand_pairs,
     })
 }
 

@@ -110,23 +110,44 @@ impl Model {
 
 #[inline]
 fn evaluate_chain<T: Scalar>(chain: &BoundChain, work: &mut [T], stride: usize, n: usize) {
-    let kind = chain.kind;
-    let outputs = kind.spec().measurands.len();
+    // One match per block; the chain function is then inlined into its trial loop.
+    match chain.kind {
+        ChainKind::TorsionPower => chain_loop(chain, work, stride, n, torsion::torsion_power::<T>),
+        ChainKind::TorsionSignal => chain_loop(chain, work, stride, n, torsion::torsion_signal::<T>),
+        ChainKind::WeighingPower => chain_loop(chain, work, stride, n, weighing::weighing_power::<T>),
+        ChainKind::WeighingSignal => chain_loop(chain, work, stride, n, weighing::weighing_signal::<T>),
+    }
+}
+
+#[inline(always)]
+fn chain_loop<T: Scalar, F: Fn(&[T], &mut [T])>(
+    chain: &BoundChain,
+    work: &mut [T],
+    stride: usize,
+    n: usize,
+    f: F,
+) {
+    let outputs = chain.kind.spec().measurands.len();
     let mut args = [T::cst(0.0); MAX_CHAIN_ARGS];
     let mut out = [T::cst(0.0); MAX_CHAIN_OUTPUTS];
     let na = chain.args.len();
-    for (slot, src) in args.iter_mut().zip(&chain.args) {
-        if let ArgSource::Fixed(v) = src {
-            *slot = T::cst(*v);
+    // (slot, column) of the arguments that vary; the fixed ones are set once.
+    let mut varying = [(0usize, 0usize); MAX_CHAIN_ARGS];
+    let mut nv = 0;
+    for (slot, src) in chain.args.iter().enumerate() {
+        match src {
+            ArgSource::Fixed(v) => args[slot] = T::cst(*v),
+            ArgSource::Column(c) => {
+                varying[nv] = (slot, *c);
+                nv += 1;
+            }
         }
     }
     for i in 0..n {
-        for (slot, src) in args.iter_mut().zip(&chain.args) {
-            if let ArgSource::Column(c) = src {
-                *slot = work[c * stride + i];
-            }
+        for &(slot, c) in &varying[..nv] {
+            args[slot] = work[c * stride + i];
         }
-        kind.evaluate(&args[..na], &mut out[..outputs]);
+        f(&args[..na], &mut out[..outputs]);
         for (m, v) in out[..outputs].iter().enumerate() {
             work[(chain.first_output + m) * stride + i] = *v;
         }

@@ -252,7 +252,7 @@ fn setup<T: Scalar>(a: &[T]) -> Setup<T> {
         scale_distance,
         kappa,
         lever_arm,
-        force_per_watt: g * eta * s / T::cst(SPEED_OF_LIGHT),
+        force_per_watt: g * eta * s * T::cst(1.0 / SPEED_OF_LIGHT),
         stray_force,
     }
 }

@@ -185,7 +185,7 @@ fn force_per_watt<T: Scalar>(a: &[T]) -> T {
     let g = normal_force_factor(reflectance, transmittance, diffuse, incidence);
     // `bounces` is validated at load as a whole constant >= 1.
     let s = bounce_sum(reflectance, bounces.value().round() as u32);
-    g * eta * s / T::cst(SPEED_OF_LIGHT)
+    g * eta * s * T::cst(1.0 / SPEED_OF_LIGHT)
 }
 
 /// `weighing-power`: args in [`WEIGHING_POWER`] order; out = [power, force].

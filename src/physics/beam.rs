@@ -23,9 +23,15 @@ pub fn gaussian_intensity<T: Scalar>(p: T, w: T, r: T) -> T {
 
 /// Fraction of a Gaussian beam's power (1/e^2 radius `w`) that falls on a centred circular
 /// mirror or aperture of radius `a`: eta = 1 - exp(-2 a^2 / w^2) (Siegman 1986, 17.1),
-/// computed as -expm1 for accuracy when the mirror is small.
+/// computed as -expm1 when the mirror is small (2 a^2 / w^2 < 1/2, where 1 - exp loses digits)
+/// and as 1 - exp otherwise (the cheaper function, exact to rounding there).
 pub fn gaussian_aperture_fraction<T: Scalar>(a: T, w: T) -> T {
-    -((T::cst(-2.0) * a * a / (w * w)).exp_m1())
+    let x = T::cst(-2.0) * a * a / (w * w);
+    if x.value() > -0.5 {
+        -(x.exp_m1())
+    } else {
+        T::cst(1.0) - x.exp()
+    }
 }
 
 /// The aperture radius that passes the fraction `f` of a Gaussian beam:

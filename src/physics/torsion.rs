@@ -13,15 +13,16 @@ use std::f64::consts::PI;
 
 /// Torsion constant from the free period: kappa = I (2 pi / T0)^2, N m/rad.
 pub fn torsion_constant_from_period<T: Scalar>(moment_of_inertia: T, free_period: T) -> T {
-    let omega = T::cst(2.0 * PI) / free_period;
-    moment_of_inertia * omega * omega
+    moment_of_inertia * T::cst(4.0 * PI * PI) / (free_period * free_period)
 }
 
 /// Correct a torsion constant computed from a damped period for the damping of quality factor
 /// Q: kappa / (1 - 1/(4 Q^2)), since omega_d^2 = omega_0^2 (1 - 1/(4 Q^2)) for viscous damping
 /// (Landau and Lifshitz, Mechanics, 25).
 pub fn damping_corrected<T: Scalar>(kappa: T, quality_factor: T) -> T {
-    kappa / (T::cst(1.0) - T::cst(0.25) / (quality_factor * quality_factor))
+    // kappa / (1 - 1/(4 Q^2)) = kappa Q^2 / (Q^2 - 1/4), one division.
+    let q2 = quality_factor * quality_factor;
+    kappa * q2 / (q2 - T::cst(0.25))
 }
 
 /// Torsion constant of a round fibre of shear modulus G, radius r and length l:
