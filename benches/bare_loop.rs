@@ -38,7 +38,8 @@ fn intervals(y: &mut [f64], p: f64) -> ((f64, f64), (f64, f64)) {
     y[..k].sort_unstable_by(f64::total_cmp);
     y[k..].select_nth_unstable_by(q - k, f64::total_cmp);
     y[q..].sort_unstable_by(f64::total_cmp);
-    let r = if k % 2 == 0 { k / 2 } else { k.div_ceil(2) };
+    // JCGM 101 7.7.2: r = (M - q)/2 when that is an integer, else (M - q + 1)/2.
+    let r = k.div_ceil(2);
     let sym = (y[r - 1], y[r - 1 + q]);
     let mut best = 0;
     for j in 0..k {
@@ -51,9 +52,15 @@ fn intervals(y: &mut [f64], p: f64) -> ((f64, f64), (f64, f64)) {
 
 fn main() {
     let mut args = std::env::args().skip(1);
-    let trials: usize = args.next().and_then(|s| s.parse().ok()).unwrap_or(1_000_000);
+    let trials: usize = args
+        .next()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(1_000_000);
     let threads: usize = args.next().and_then(|s| s.parse().ok()).unwrap_or(0);
-    let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().expect("thread pool");
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .expect("thread pool");
     pool.install(|| {
         // readout_shift: ten readings, mean and s / sqrt(10), 9 degrees of freedom.
         let readings = [7.975e-3, 7.992e-3, 7.981e-3, 8.001e-3, 7.988e-3, 7.979e-3, 7.996e-3, 7.984e-3, 7.990e-3, 7.994e-3];

@@ -42,7 +42,14 @@ fn torsion_inputs_block(bencher: Bencher) {
     let mut rng = chunk_stream(1, 0);
     let mut work = vec![0.0; study.model.columns() * BLOCK_TRIALS];
     bencher.counter(BLOCK_TRIALS).bench_local(|| {
-        fill_inputs(&study, &steps, &mut rng, &mut work, BLOCK_TRIALS, BLOCK_TRIALS);
+        fill_inputs(
+            &study,
+            &steps,
+            &mut rng,
+            &mut work,
+            BLOCK_TRIALS,
+            BLOCK_TRIALS,
+        );
         black_box(&work);
     });
 }
@@ -54,10 +61,19 @@ fn torsion_chain_block(bencher: Bencher) {
     let steps = fill_steps(&study);
     let mut rng = chunk_stream(1, 0);
     let mut work = vec![0.0; study.model.columns() * BLOCK_TRIALS];
-    fill_inputs(&study, &steps, &mut rng, &mut work, BLOCK_TRIALS, BLOCK_TRIALS);
+    fill_inputs(
+        &study,
+        &steps,
+        &mut rng,
+        &mut work,
+        BLOCK_TRIALS,
+        BLOCK_TRIALS,
+    );
     let mut stack = vec![0.0; study.model.stack_depth() * BLOCK_TRIALS];
     bencher.counter(BLOCK_TRIALS).bench_local(|| {
-        study.model.evaluate_block(&mut work, BLOCK_TRIALS, BLOCK_TRIALS, &mut stack);
+        study
+            .model
+            .evaluate_block(&mut work, BLOCK_TRIALS, BLOCK_TRIALS, &mut stack);
         black_box(&work);
     });
 }
@@ -66,7 +82,9 @@ fn torsion_chain_block(bencher: Bencher) {
 #[divan::bench(sample_count = 10)]
 fn torsion_simulate_1e5(bencher: Bencher) {
     let study = demo();
-    bencher.counter(100_000usize).bench(|| black_box(simulate(&study, Plan::new(100_000, 1)).unwrap()));
+    bencher
+        .counter(100_000usize)
+        .bench(|| black_box(simulate(&study, Plan::new(100_000, 1)).unwrap()));
 }
 
 /// Both coverage intervals of 10^6 values.
@@ -74,7 +92,9 @@ fn torsion_simulate_1e5(bencher: Bencher) {
 fn intervals_1e6(bencher: Bencher) {
     let study = demo();
     let s = simulate(&study, Plan::new(1_000_000, 1)).unwrap();
-    bencher.counter(1_000_000usize).bench(|| black_box(coverage_intervals(&s.measurands[0], 0.95)));
+    bencher
+        .counter(1_000_000usize)
+        .bench(|| black_box(coverage_intervals(&s.measurands[0], 0.95)));
 }
 
 /// Moments of one chunk, separately and jointly for three columns.
@@ -83,6 +103,8 @@ fn chunk_moments(bencher: Bencher) {
     let x: Vec<f64> = (0..16_384).map(|i| (i as f64).sin()).collect();
     let y: Vec<f64> = x.iter().map(|v| v * 2.0 + 1.0).collect();
     let z: Vec<f64> = x.iter().map(|v| v * v).collect();
-    bencher.counter(16_384usize).bench_local(|| black_box(joint_moments(&[&x, &y, &z])));
+    bencher
+        .counter(16_384usize)
+        .bench_local(|| black_box(joint_moments(&[&x, &y, &z])));
     black_box(Moments::of(&x));
 }

@@ -106,9 +106,9 @@ pub enum RunError {
     },
     /// The samples would not fit in the memory budget.
     #[error(
-        "{trials} trials would need {needed} of sample storage, more than the memory budget of \
-         {budget}; lower `trials`, or raise the budget with --memory-budget (e.g. \
-         --memory-budget 8GiB)"
+        "{trials} trials need {needed} (the coverage-interval tails of one measurand and a working \
+         reserve), even streamed in two passes, more than the memory budget of {budget}; lower `trials`, or \
+         raise the budget with --memory-budget (e.g. --memory-budget 8GiB)"
     )]
     MemoryBudget {
         /// Trials asked for.
@@ -129,6 +129,9 @@ pub enum RunError {
         /// What went wrong.
         message: String,
     },
+    /// The run was stopped (Ctrl-C) before it finished; nothing was written.
+    #[error("stopped before the run finished; no output was written")]
+    Interrupted,
     /// The thread pool could not be built.
     #[error("cannot start {threads} worker threads: {message}")]
     Threads {
@@ -145,16 +148,19 @@ pub enum Error {
     /// Bad input: exit code 2.
     #[error("{0}")]
     Input(#[from] InputError),
-    /// Failed run: exit code 1.
+    /// Failed run: exit code 1 (2 for a request the memory budget cannot hold, 130 for an
+    /// interrupted run, the shell's code for Ctrl-C).
     #[error("{0}")]
     Run(#[from] RunError),
 }
 
 impl Error {
-    /// The process exit code for this error: 2 for bad input, 1 for a failed run.
+    /// The process exit code for this error: 2 for bad input (and for more trials than the
+    /// memory budget holds), 130 for an interrupted run, 1 for any other failed run.
     pub fn exit_code(&self) -> i32 {
         match self {
-            Error::Input(_) => 2,
+            Error::Input(_) | Error::Run(RunError::MemoryBudget { .. }) => 2,
+            Error::Run(RunError::Interrupted) => 130,
             Error::Run(_) => 1,
         }
     }

@@ -17,4 +17,5 @@ pub mod report;
 pub mod run;
 pub mod scalar;
 pub mod scenario;
+pub mod shard;
 pub mod units;

@@ -32,8 +32,21 @@ enum Command {
     Rank(RankArgs),
     /// Compare designs (files, and the [variants] of a file) side by side, paired.
     Compare(CompareArgs),
+    /// Combine the partial results of `run --shard K/N` into the report of the whole run.
+    Merge(MergeArgs),
     /// Find what must improve to reach a target uncertainty, and check it by Monte Carlo.
     Plan(PlanArgs),
+    /// Write a notebook-ready bundle: JSON report, budget and samples as CSV, figures, notebook.
+    Export(ExportArgs),
+    /// Print a JSON Schema of the scenario file, for editors.
+    Schema,
+    /// Print shell completions.
+    Completions {
+        /// The shell.
+        shell: clap_complete::Shell,
+    },
+    /// Print the manual page (roff).
+    Manual,
     /// Validate a scenario file without running it.
     Check {
         /// The scenario file (TOML).
@@ -57,6 +70,16 @@ enum FormatArg {
     Json,
     /// A proposal-ready report: plain-words summary, tables, figures, method, cautions.
     Markdown,
+    /// The summary and the budget as CSV tables (one after the other).
+    Csv,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum PlotFormatArg {
+    /// Scalable vector graphics.
+    Svg,
+    /// Portable network graphics.
+    Png,
 }
 
 #[derive(Clone, Copy, ValueEnum)]
@@ -103,9 +126,12 @@ struct OutputArgs {
     /// Write the report to this file instead of stdout.
     #[arg(short, long)]
     output: Option<PathBuf>,
-    /// Write the figures (SVG) into this folder.
+    /// Write the figures into this folder.
     #[arg(long)]
     plots: Option<PathBuf>,
+    /// Format of the figures.
+    #[arg(long, value_enum, default_value = "svg")]
+    plot_format: PlotFormatArg,
     /// Replace existing output files.
     #[arg(long)]
     force: bool,
@@ -118,6 +144,41 @@ struct OutputArgs {
 struct RunArgs {
     #[command(flatten)]
     study: StudyArgs,
+    #[command(flatten)]
+    out: OutputArgs,
+    /// Write the trials (inputs and measurands) to this CSV file.
+    #[arg(long)]
+    samples: Option<PathBuf>,
+    /// Write at most this many trials to --samples, evenly thinned.
+    #[arg(long, requires = "samples")]
+    samples_max: Option<usize>,
+    /// Run only shard K of N (chunks k with k mod N = K) and write a partial result to --output.
+    #[arg(long, value_name = "K/N")]
+    shard: Option<String>,
+}
+
+#[derive(clap::Args)]
+struct ExportArgs {
+    #[command(flatten)]
+    study: StudyArgs,
+    /// The folder to write the bundle into (created if missing).
+    dir: PathBuf,
+    /// Trials written to samples.csv, evenly thinned.
+    #[arg(long, default_value_t = report::bundle::DEFAULT_SAMPLE_ROWS)]
+    samples_max: usize,
+    /// Replace existing files in the folder.
+    #[arg(long)]
+    force: bool,
+    /// Print no warnings and no progress on stderr.
+    #[arg(short, long)]
+    quiet: bool,
+}
+
+#[derive(clap::Args)]
+struct MergeArgs {
+    /// The partial results of every shard of one run.
+    #[arg(required = true)]
+    parts: Vec<PathBuf>,
     #[command(flatten)]
     out: OutputArgs,
 }
@@ -282,6 +343,13 @@ fn check_outputs(out: &OutputArgs) -> Result<(), Error> {
     Ok(())
 }
 
+fn plot_format(out: &OutputArgs) -> report::plots::PlotFormat {
+    match out.plot_format {
+        PlotFormatArg::Svg => report::plots::PlotFormat::Svg,
+        PlotFormatArg::Png => report::plots::PlotFormat::Png,
+    }
+}
+
 /// What a command reports.
 enum Report<'a> {
     Run(&'a Findings),
@@ -299,7 +367,9 @@ fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<(), Error> {
         FormatArg::Text => Format::Text,
         FormatArg::Json => Format::Json,
         FormatArg::Markdown => Format::Markdown,
+        FormatArg::Csv => Format::Csv,
     };
+    let plot_format = plot_format(out);
     if format == Format::Json {
         let value = match &report {
             Report::Run(f) => report::json::report_value(f),
@@ -310,9 +380,9 @@ fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<(), Error> {
     }
     if let Some(dir) = &out.plots {
         let figures = match &report {
-            Report::Run(f) => report::plots::figures(f),
-            Report::Compare(c) => report::plots::comparison_figures(c),
-            Report::Plan(p) => report::plots::figures(&p.verification),
+            Report::Run(f) => report::plots::figures(f, plot_format),
+            Report::Compare(c) => report::plots::comparison_figures(c, plot_format),
+            Report::Plan(p) => report::plots::figures(&p.verification, plot_format),
         }
         .map_err(numerical)?;
         std::fs::create_dir_all(dir).map_err(|e| RunError::Output {
@@ -320,10 +390,14 @@ fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<(), Error> {
             message: e.to_string(),
         })?;
         for figure in &figures {
-            output::write_atomic(&dir.join(&figure.file), figure.svg.as_bytes(), out.force)?;
+            output::write_atomic(&dir.join(&figure.file), &figure.bytes, out.force)?;
         }
     }
-    let exporter = report::exporter(format, out.plots.as_ref().map(|d| d.display().to_string()));
+    let exporter = report::exporter(
+        format,
+        out.plots.as_ref().map(|d| d.display().to_string()),
+        plot_format,
+    );
     let bytes = match report {
         Report::Run(f) => exporter.render(f),
         Report::Compare(c) => exporter.comparison(c),
@@ -344,13 +418,122 @@ fn warn(study: &Study, quiet: bool) {
     }
 }
 
-fn run_command(args: &RunArgs) -> Result<(), Error> {
+fn parse_shard(text: &str) -> Result<(u64, u64), Error> {
+    let example = "--shard 0/3";
+    let parsed = text
+        .split_once('/')
+        .and_then(|(k, n)| Some((k.trim().parse::<u64>().ok()?, n.trim().parse::<u64>().ok()?)));
+    match parsed {
+        Some((k, n)) if n >= 1 && k < n && n <= 100_000 => Ok((k, n)),
+        _ => Err(command_line_error(
+            "--shard",
+            format!("{text:?} is not a shard K/N with 0 <= K < N"),
+            example,
+        )),
+    }
+}
+
+fn shard_command(args: &RunArgs, shard: &str) -> Result<(), Error> {
+    let (k, n) = parse_shard(shard)?;
     let (study, options) = load(&args.study)?;
+    if study.adaptive.is_some() {
+        return Err(command_line_error(
+            "--shard",
+            "an adaptive run cannot be split into shards; give --trials",
+            "--trials 100000000 --shard 0/4",
+        ));
+    }
+    let Some(path) = &args.out.output else {
+        return Err(command_line_error(
+            "--output",
+            "a shard writes its partial result to a file",
+            "--shard 0/4 --output part-0.rfp",
+        ));
+    };
+    output::check_writable(path, args.out.force)?;
+    let text = std::fs::read_to_string(&args.study.file).map_err(|e| {
+        InputError::file(
+            study.file.clone(),
+            format!("cannot read the scenario file: {e}"),
+        )
+    })?;
+    warn(&study, args.out.quiet);
+    let plan = engine::Plan {
+        shard: Some((k, n)),
+        ..engine::Plan::new(study.trials, study.seed)
+    };
+    let needed = engine::memory::sample_bytes(
+        plan.chunks().iter().map(|c| c.1 as u64).sum(),
+        study.model.measurands,
+        study.coverage,
+    );
+    if needed > options.memory_budget {
+        return Err(command_line_error(
+            "--shard",
+            format!(
+                "the shard's values would take {}, more than the memory budget of {}; use more shards",
+                engine::memory::format_bytes(needed),
+                engine::memory::format_bytes(options.memory_budget)
+            ),
+            "--shard 0/16",
+        ));
+    }
+    let bytes = engine::with_threads(args.study.threads, || -> Result<Vec<u8>, Error> {
+        let samples = engine::simulate(&study, plan)?;
+        Ok(radforce::shard::write_part(&study, &text, &samples, k, n))
+    })??;
+    output::write_atomic(path, &bytes, args.out.force)
+}
+
+fn merge_command(args: &MergeArgs) -> Result<(), Error> {
     check_outputs(&args.out)?;
+    let mut parts = Vec::new();
+    for p in &args.parts {
+        let shown = p.display().to_string();
+        let bytes = std::fs::read(p).map_err(|e| {
+            InputError::file(&shown, format!("cannot read the partial result: {e}"))
+        })?;
+        parts.push((shown.clone(), radforce::shard::read_part(&bytes, &shown)?));
+    }
+    let findings = engine::with_threads(None, || -> Result<Findings, Error> {
+        let (study, mc) = radforce::shard::merge_parts(&parts)?;
+        Ok(radforce::analysis::findings_from(&study, &mc, None))
+    })??;
+    deliver(Report::Run(&findings), &args.out)
+}
+
+fn run_command(args: &RunArgs) -> Result<(), Error> {
+    if let Some(shard) = &args.shard {
+        return shard_command(args, shard);
+    }
+    let (study, mut options) = load(&args.study)?;
+    check_outputs(&args.out)?;
+    if let Some(path) = &args.samples {
+        output::check_writable(path, args.out.force)?;
+    }
+    // Input columns are kept for the input figures and the samples file.
+    options.keep_inputs = args.out.plots.is_some() || args.samples.is_some();
+    if args.samples.is_some() && !run::fits_in_memory(&study, &options) {
+        return Err(command_line_error(
+            "--samples",
+            "the trials do not fit the memory budget, so they cannot be written out; lower --trials or raise --memory-budget",
+            "--samples trials.csv --samples-max 100000",
+        ));
+    }
+    if !run::fits_in_memory(&study, &options) && args.samples.is_none() {
+        // Figures of the inputs need their columns; without room, draw the others only.
+        options.keep_inputs = false;
+    }
     run::check_memory(&study, &options)?;
     warn(&study, args.out.quiet);
-    let findings =
-        engine::with_threads(args.study.threads, || run::sweep_study(&study, &options))??;
+    let progress = Progress::start(args.out.quiet);
+    let result = engine::with_threads(args.study.threads, || run::sweep_study(&study, &options));
+    progress.finish();
+    let (findings, samples) = result??;
+    if let (Some(path), Some(samples)) = (&args.samples, &samples) {
+        let bytes = report::csv::samples(&findings, samples, args.samples_max);
+        output::write_atomic(path, &bytes, args.out.force)?;
+    }
     deliver(Report::Run(&findings), &args.out)
 }
 
@@ -497,6 +680,97 @@ fn plan_command(args: &PlanArgs) -> Result<(), Error> {
     deliver(Report::Plan(&plan), &args.out)
 }
 
+fn export_command(args: &ExportArgs) -> Result<(), Error> {
+    let (study, mut options) = load(&args.study)?;
+    if args.dir.exists() && !args.dir.is_dir() {
+        return Err(
+            InputError::file(args.dir.display().to_string(), "exists and is not a folder")
+                .with_example("radforce export data/torsion-vacuum-20w.toml notebooks-export")
+                .into(),
+        );
+    }
+    options.keep_inputs = true;
+    if !run::fits_in_memory(&study, &options) {
+        return Err(command_line_error(
+            "--trials",
+            "the bundle needs the trials in memory, and they do not fit the memory budget",
+            "--trials 1000000",
+        ));
+    }
+    warn(&study, args.quiet);
+    let progress = Progress::start(args.quiet);
+    let (findings, samples) =
+        engine::with_threads(args.study.threads, || run::run_study(&study, &options))??;
+    progress.finish();
+    let samples =
+        samples.ok_or_else(|| numerical("the bundle needs the trials in memory".into()))?;
+    let files = report::bundle::bundle(&findings, &samples, args.samples_max).map_err(numerical)?;
+    // Refuse before writing anything if any file would be replaced without --force.
+    for (name, _) in &files {
+        output::check_writable(&args.dir.join(name), args.force)?;
+    }
+    for (name, bytes) in &files {
+        let path = args.dir.join(name);
+        if let Some(parent) = path.parent() {
+            std::fs::create_dir_all(parent).map_err(|e| RunError::Output {
+                path: parent.display().to_string(),
+                message: e.to_string(),
+            })?;
+        }
+        output::write_atomic(&path, bytes, args.force)?;
+    }
+    write_stdout(format!("wrote {} files into {}\n", files.len(), args.dir.display()).as_bytes());
+    Ok(())
+}
+
+/// A progress bar on stderr for runs that last more than about a second; hidden when stderr is
+/// not a terminal (indicatif's check) or with --quiet.
+struct Progress {
+    stop: std::sync::Arc<std::sync::atomic::AtomicBool>,
+    handle: Option<std::thread::JoinHandle<()>>,
+}
+
+impl Progress {
+    fn start(quiet: bool) -> Progress {
+        let stop = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
+        let handle = (!quiet).then(|| {
+            let stop = stop.clone();
+            std::thread::spawn(move || {
+                let start = std::time::Instant::now();
+                let base = engine::progress::trials_done();
+                let mut bar: Option<indicatif::ProgressBar> = None;
+                while !stop.load(std::sync::atomic::Ordering::Relaxed) {
+                    std::thread::sleep(std::time::Duration::from_millis(100));
+                    if bar.is_none() && start.elapsed() > std::time::Duration::from_secs(1) {
+                        let b = indicatif::ProgressBar::new_spinner();
+                        b.set_style(
+                            indicatif::ProgressStyle::with_template("{spinner} {elapsed} {msg}")
+                                .unwrap_or_else(|_| indicatif::ProgressStyle::default_spinner()),
+                        );
+                        bar = Some(b);
+                    }
+                    if let Some(b) = &bar {
+                        let done = engine::progress::trials_done() - base;
+                        b.set_message(format!("{} trials", report::text::grouped(done)));
+                        b.tick();
+                    }
+                }
+                if let Some(b) = bar {
+                    b.finish_and_clear();
+                }
+            })
+        });
+        Progress { stop, handle }
+    }
+
+    fn finish(mut self) {
+        self.stop.store(true, std::sync::atomic::Ordering::Relaxed);
+        if let Some(h) = self.handle.take() {
+            let _ = h.join();
+        }
+    }
+}
+
 fn check(file: &Path) -> Result<(), Error> {
     let study = scenario::load_file(file)?;
     let names: Vec<&str> = study.measurands.iter().map(|m| m.name.as_str()).collect();
@@ -549,10 +823,45 @@ fn new_scenario(name: &str, force: bool) -> Result<(), Error> {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    // Ctrl-C asks the trials to stop; nothing is written for a stopped run. A second Ctrl-C
+    // leaves at once.
+    let _ = ctrlc::set_handler(|| {
+        if engine::progress::interrupted() {
+            std::process::exit(130);
+        }
+        engine::progress::interrupt();
+    });
     let result = match &cli.command {
         Command::Run(args) => run_command(args),
         Command::Rank(args) => rank_command(args),
         Command::Compare(args) => compare_command(args),
+        Command::Merge(args) => merge_command(args),
+        Command::Export(args) => export_command(args),
+        Command::Schema => {
+            let mut text = serde_json::to_string_pretty(&scenario::schema::scenario_schema())
+                .unwrap_or_default();
+            text.push('\n');
+            write_stdout(text.as_bytes());
+            Ok(())
+        }
+        Command::Completions { shell } => {
+            let mut out = Vec::new();
+            clap_complete::generate(
+                *shell,
+                &mut <Cli as clap::CommandFactory>::command(),
+                "radforce",
+                &mut out,
+            );
+            write_stdout(&out);
+            Ok(())
+        }
+        Command::Manual => {
+            let mut out = Vec::new();
+            let _ =
+                clap_mangen::Man::new(<Cli as clap::CommandFactory>::command()).render(&mut out);
+            write_stdout(&out);
+            Ok(())
+        }
         Command::Plan(args) => plan_command(args),
         Command::Check { file } => check(file),
         Command::New { name, force } => new_scenario(name, *force),
@@ -560,7 +869,15 @@ fn main() -> ExitCode {
     match result {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
-            eprintln!("error: {e}");
+            // Colour only on a terminal, and never with NO_COLOR (https://no-color.org).
+            use std::io::IsTerminal;
+            let colour = std::io::stderr().is_terminal()
+                && std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty());
+            if colour {
+                eprintln!("\x1b[1;31merror:\x1b[0m {e}");
+            } else {
+                eprintln!("error: {e}");
+            }
             ExitCode::from(e.exit_code() as u8)
         }
     }

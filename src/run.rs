@@ -19,9 +19,21 @@ pub struct RunOptions {
     pub keep_inputs: bool,
 }
 
-/// The storage a fixed run of the study needs, refused when over the budget.
+/// Whether a fixed run of the study fits the memory budget with its values held in memory.
+pub fn fits_in_memory(study: &Study, options: &RunOptions) -> bool {
+    let columns = study.model.measurands
+        + if options.keep_inputs {
+            study.inputs.len()
+        } else {
+            0
+        };
+    engine::memory::sample_bytes(study.trials, columns, study.coverage) <= options.memory_budget
+}
+
+/// Refuse a run that cannot be made within the memory budget: one that must keep its input
+/// columns (rank, exports) and does not fit. Others that do not fit are streamed in two passes.
 pub fn check_memory(study: &Study, options: &RunOptions) -> Result<(), Error> {
-    if study.adaptive.is_some() {
+    if study.adaptive.is_some() || !options.keep_inputs {
         return Ok(());
     }
     let columns = study.model.measurands
@@ -37,7 +49,7 @@ pub fn check_memory(study: &Study, options: &RunOptions) -> Result<(), Error> {
             location: None,
             key: Some("trials".into()),
             message: format!(
-                "{} trials would need {} of sample storage, more than the memory budget of {}; lower `trials`, or raise the budget with --memory-budget",
+                "{} trials with their input columns (needed here) would take {} of memory, more than the budget of {}; lower `trials`, or raise the budget with --memory-budget",
                 study.trials,
                 engine::memory::format_bytes(needed),
                 engine::memory::format_bytes(options.memory_budget)
@@ -147,6 +159,11 @@ pub fn rank_study(
         ..*options
     };
     let (mut findings, samples) = run_study(study, &keep)?;
+    let samples = samples.ok_or_else(|| {
+        Error::Run(crate::error::RunError::Numerical(
+            "the ranking needs the input columns of the ordinary run in memory".into(),
+        ))
+    })?;
     let runs = sensitivity::design_runs(study, rank.base_rows, rank.sampler, study.seed)?;
     let method = SensitivityMethod {
         base_rows: rank.base_rows,
@@ -166,7 +183,13 @@ pub fn rank_study(
 }
 
 /// Run a study on the current rayon pool and summarise it.
-pub fn run_study(study: &Study, options: &RunOptions) -> Result<(Findings, Samples), Error> {
+///
+/// A fixed run whose values do not fit the memory budget is made in two passes over the same
+/// streams (`engine::streaming`), with the same results; it then returns no samples.
+pub fn run_study(
+    study: &Study,
+    options: &RunOptions,
+) -> Result<(Findings, Option<Samples>), Error> {
     check_memory(study, options)?;
     match study.adaptive {
         None => {
@@ -174,8 +197,18 @@ pub fn run_study(study: &Study, options: &RunOptions) -> Result<(Findings, Sampl
                 keep_inputs: options.keep_inputs,
                 ..Plan::new(study.trials, study.seed)
             };
+            if !fits_in_memory(study, options) {
+                let mc = engine::streaming::simulate_streamed(study, plan, options.memory_budget)?;
+                let mut findings = analysis::findings_from(study, &mc, None);
+                findings.warnings.push(format!(
+                    "the values of {} trials do not fit the memory budget of {}: the run was made in two passes over the same random streams (the results are those of a run held in memory)",
+                    study.trials,
+                    engine::memory::format_bytes(options.memory_budget)
+                ));
+                return Ok((findings, None));
+            }
             let samples = engine::simulate(study, plan)?;
-            Ok((analysis::findings(study, &samples, None), samples))
+            Ok((analysis::findings(study, &samples, None), Some(samples)))
         }
         Some(settings) => {
             let columns = study.model.measurands
@@ -190,17 +223,24 @@ pub fn run_study(study: &Study, options: &RunOptions) -> Result<(Findings, Sampl
             let cap = settings.max_trials.min(by_memory);
             let run = adaptive::simulate_adaptive(study, settings, options.keep_inputs, cap)?;
             let findings = analysis::findings(study, &run.samples, Some(&run));
-            Ok((findings, run.samples))
+            Ok((findings, Some(run.samples)))
         }
     }
 }
 
 /// Run the study and then every point of its `[sweep]` (the same seed and trials throughout);
 /// the pool and the parsed study are reused, nothing is read again.
-pub fn sweep_study(study: &Study, options: &RunOptions) -> Result<Findings, Error> {
-    let (mut findings, _) = run_study(study, options)?;
+pub fn sweep_study(
+    study: &Study,
+    options: &RunOptions,
+) -> Result<(Findings, Option<Samples>), Error> {
+    let (mut findings, samples) = run_study(study, options)?;
     let Some(sweep) = &study.sweep else {
-        return Ok(findings);
+        return Ok((findings, samples));
+    };
+    let point_options = RunOptions {
+        keep_inputs: false,
+        ..*options
     };
     let mut points = Vec::with_capacity(sweep.values.len());
     for &v in &sweep.values {
@@ -210,7 +250,7 @@ pub fn sweep_study(study: &Study, options: &RunOptions) -> Result<Findings, Erro
                 study.inputs[sweep.input].name
             )))
         })?;
-        let (f, _) = run_study(&point, options)?;
+        let (f, _) = run_study(&point, &point_options)?;
         points.push(SweepPoint {
             value: v,
             summary: f.measurands[sweep.measurand].monte_carlo,
@@ -221,7 +261,7 @@ pub fn sweep_study(study: &Study, options: &RunOptions) -> Result<Findings, Erro
         measurand: sweep.measurand,
         points,
     });
-    Ok(findings)
+    Ok((findings, samples))
 }
 
 /// Compare designs on one measurand with the same seed and trials (a paired comparison): the

@@ -60,13 +60,20 @@ impl Dimension {
                 return (*symbol).to_string();
             }
         }
-        let names = ["m", "kg", "s", "A", "K", "mol", "cd", "rad"];
+        // Positive powers first, then negative ones, each in the SI Brochure's order of base
+        // units with the kilogram first (BIPM 2019, 2.3.4: "kg m^-3", "m s^-2").
+        let names = ["kg", "m", "s", "A", "K", "mol", "cd", "rad"];
+        let e = self.0;
+        let exponents = [e[1], e[0], e[2], e[3], e[4], e[5], e[6], e[7]];
         let mut parts = Vec::new();
-        for (name, e) in names.iter().zip(self.0) {
-            match e {
-                0 => {}
-                1 => parts.push((*name).to_string()),
-                _ => parts.push(format!("{name}^{e}")),
+        for positive in [true, false] {
+            for (name, e) in names.iter().zip(exponents) {
+                match e {
+                    0 => {}
+                    _ if (e > 0) != positive => {}
+                    1 => parts.push((*name).to_string()),
+                    _ => parts.push(format!("{name}^{e}")),
+                }
             }
         }
         parts.join(" ")
@@ -545,7 +552,10 @@ mod tests {
         let q = parse_quantity("3 mW").unwrap();
         assert_eq!(q.unit.unwrap().dimension, Dimension::POWER);
         let q = parse_quantity("1.2 kg/m^3").unwrap();
-        assert_eq!(q.unit.unwrap().dimension.si_symbol(), "m^-3 kg");
+        // Written as the SI Brochure writes a density (BIPM 2019, 2.3.4).
+        assert_eq!(q.unit.unwrap().dimension.si_symbol(), "kg m^-3");
+        let q = parse_quantity("1 W/kg").unwrap();
+        assert_eq!(q.unit.unwrap().dimension.si_symbol(), "m^2 s^-3");
         assert_eq!(
             parse_quantity("5 kg").unwrap().unit.unwrap().dimension,
             Dimension::MASS

@@ -122,13 +122,21 @@ pub fn tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
 /// Both coverage intervals of JCGM 101 7.7 for coverage probability `p`. Requires M - q >= 1.
 pub fn coverage_intervals(values: &[f64], p: f64) -> CoverageIntervals {
     let m = values.len();
-    let q = q_index(m, p);
-    let k = m - q;
+    let k = m - q_index(m, p);
     assert!(
         k >= 1,
         "coverage interval needs M - q >= 1 (checked at load)"
     );
     let (low, high) = tails(values, k);
+    intervals_from_tails(&low, &high, m, p)
+}
+
+/// Both coverage intervals from the two tails of the M values: `low` the M - q smallest, `high`
+/// the M - q largest, each sorted ascending (from memory, a streamed second pass, or merged
+/// shards: the result is the same).
+pub fn intervals_from_tails(low: &[f64], high: &[f64], m: usize, p: f64) -> CoverageIntervals {
+    let q = q_index(m, p);
+    let k = m - q;
     // low[j] = y(j+1) and high[j] = y(q+j+1): the interval with r = j + 1.
     let r = symmetric_r(m, q);
     let symmetric = (low[r - 1], high[r - 1]);
@@ -145,6 +153,18 @@ pub fn coverage_intervals(values: &[f64], p: f64) -> CoverageIntervals {
         symmetric,
         shortest: (low[best], high[best]),
     }
+}
+
+/// The k smallest of several sorted-or-not candidate lists, sorted (for merging the tails of
+/// shards), and likewise the k largest.
+pub fn merge_tails(lows: Vec<Vec<f64>>, highs: Vec<Vec<f64>>, k: usize) -> (Vec<f64>, Vec<f64>) {
+    let mut lo: Vec<f64> = lows.into_iter().flatten().collect();
+    let mut hi: Vec<f64> = highs.into_iter().flatten().collect();
+    lo.sort_unstable_by(cmp);
+    lo.truncate(k);
+    hi.sort_unstable_by(cmp);
+    let hi = hi.split_off(hi.len().saturating_sub(k));
+    (lo, hi)
 }
 
 #[cfg(test)]

@@ -3,6 +3,7 @@
 //! only format these.
 
 pub mod budget;
+pub mod histogram;
 pub mod intervals;
 pub mod lpu;
 pub mod moments;
@@ -53,6 +54,8 @@ pub struct MeasurandFinding {
     pub validation: Option<ValidationFinding>,
     /// The uncertainty budget.
     pub budget: Vec<BudgetRow>,
+    /// The shape of its distribution, for figures (when the values were in memory).
+    pub shape: Option<Shape>,
 }
 
 /// What the report says about one input quantity.
@@ -74,6 +77,8 @@ pub struct InputFinding {
     pub dimension: Option<Dimension>,
     /// The unit the scenario wrote it in.
     pub shown_unit: DisplayUnit,
+    /// Its sampled histogram against its stated density (when its column was kept).
+    pub shape: Option<Shape>,
 }
 
 /// A correlation coefficient asked for between two inputs, and what the trials achieved.
@@ -211,6 +216,7 @@ fn input_finding(q: &InputQuantity) -> InputFinding {
         si_unit: q.dimension.map_or(String::new(), Dimension::si_symbol),
         dimension: q.dimension,
         shown_unit: q.shown_unit.clone(),
+        shape: None,
     }
 }
 
@@ -250,15 +256,114 @@ pub fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
 /// Summarise a run: Monte Carlo results, the LPU beside them, validation, budgets and
 /// correlations.
 pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>) -> Findings {
+    findings_from(study, &MonteCarlo::from_samples(study, samples), adaptive)
+}
+
+/// The shape of a sampled distribution, for figures.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Shape {
+    /// The histogram of the values.
+    pub histogram: histogram::Histogram,
+    /// A smooth density: a kernel estimate for a measurand, the stated density for an input.
+    pub density: Vec<(f64, f64)>,
+}
+
+/// Bins of a measurand's histogram.
+pub const MEASURAND_BINS: usize = 100;
+/// Bins of an input's histogram.
+pub const INPUT_BINS: usize = 60;
+
+fn measurand_shape(values: &[f64], s: &Summary) -> Option<Shape> {
+    let (a, b) = s.symmetric_interval;
+    let w = b - a;
+    if w.is_nan() || w <= 0.0 {
+        return None;
+    }
+    let (lo, hi) = (a - 0.6 * w, b + 0.6 * w);
+    Some(Shape {
+        histogram: histogram::Histogram::of(values, lo, hi, MEASURAND_BINS),
+        density: histogram::kernel_density(values, s.standard_uncertainty, lo, hi, 200),
+    })
+}
+
+fn input_shape(values: &[f64], q: &InputQuantity) -> Option<Shape> {
+    let crate::scenario::Law::Distributed(d) = &q.law else {
+        return None;
+    };
+    let (lo, hi) = (d.quantile(0.001), d.quantile(0.999));
+    if hi.is_nan() || lo.is_nan() || hi <= lo {
+        return None;
+    }
+    let density = (0..200)
+        .map(|j| {
+            let x = lo + (hi - lo) * j as f64 / 199.0;
+            (x, d.pdf(x))
+        })
+        .collect();
+    Some(Shape {
+        histogram: histogram::Histogram::of(values, lo, hi, INPUT_BINS),
+        density,
+    })
+}
+
+/// The Monte Carlo result of a run, whether its values were kept in memory, streamed, or made by
+/// shards on several machines: what the findings need and nothing more.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MonteCarlo {
+    /// Trials M.
+    pub trials: u64,
+    /// Per measurand.
+    pub summaries: Vec<Summary>,
+    /// Joint moments of each pair of measurands (engine order).
+    pub measurand_pairs: Vec<CoMoments>,
+    /// Joint moments of each correlated input pair.
+    pub input_pairs: Vec<CoMoments>,
+    /// Shapes of the measurands' distributions (when their values were in memory).
+    pub shapes: Vec<Option<Shape>>,
+    /// Shapes of the inputs' sampled distributions (when their columns were kept).
+    pub input_shapes: Vec<Option<Shape>>,
+}
+
+impl MonteCarlo {
+    /// From values held in memory; the measurands are summarised in parallel.
+    pub fn from_samples(study: &Study, samples: &Samples) -> MonteCarlo {
+        let summaries: Vec<Summary> = samples
+            .measurands
+            .par_iter()
+            .zip(samples.moments.par_iter())
+            .map(|(col, mo)| summarize(col, mo, study.coverage))
+            .collect();
+        let shapes = samples
+            .measurands
+            .iter()
+            .zip(&summaries)
+            .map(|(col, s)| measurand_shape(col, s))
+            .collect();
+        let input_shapes = match &samples.inputs {
+            Some(cols) => cols
+                .iter()
+                .zip(&study.inputs)
+                .map(|(c, q)| input_shape(c, q))
+                .collect(),
+            None => vec![None; study.inputs.len()],
+        };
+        MonteCarlo {
+            trials: samples.trials as u64,
+            summaries,
+            measurand_pairs: samples.measurand_pairs.clone(),
+            input_pairs: samples.input_pairs.clone(),
+            shapes,
+            input_shapes,
+        }
+    }
+}
+
+/// Summarise a run from its Monte Carlo result.
+pub fn findings_from(study: &Study, mc: &MonteCarlo, adaptive: Option<&AdaptiveRun>) -> Findings {
+    let mcr = mc;
     let lpu = lpu::propagate(study);
     let mut warnings = study.warnings.clone();
-    // The Monte Carlo summaries of the measurands, in parallel (each is deterministic).
-    let summaries: Vec<Summary> = samples
-        .measurands
-        .par_iter()
-        .zip(samples.moments.par_iter())
-        .map(|(col, mo)| summarize(col, mo, study.coverage))
-        .collect();
+    let summaries = &mc.summaries;
     let measurands: Vec<MeasurandFinding> = study
         .measurands
         .iter()
@@ -297,6 +402,7 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
                 lpu: lpu_m,
                 validation,
                 budget,
+                shape: mcr.shapes.get(i).cloned().flatten(),
             }
         })
         .collect();
@@ -317,7 +423,7 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
             .collect();
         MeasurandCorrelation {
             names: measurands.iter().map(|m| m.name.clone()).collect(),
-            monte_carlo: correlation_from_pairs(measurands.len(), &samples.measurand_pairs),
+            monte_carlo: correlation_from_pairs(measurands.len(), &mc.measurand_pairs),
             lpu: lpu_corr,
         }
     });
@@ -325,7 +431,7 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
         .correlations
         .pairs
         .iter()
-        .zip(&samples.input_pairs)
+        .zip(&mc.input_pairs)
         .map(|(p, c)| InputCorrelationFinding {
             a: study.inputs[p.a].name.clone(),
             b: study.inputs[p.b].name.clone(),
@@ -351,7 +457,7 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
     Findings {
         file: study.file.clone(),
         title: study.title.clone(),
-        trials: samples.trials as u64,
+        trials: mc.trials,
         seed: study.seed,
         coverage: study.coverage,
         digits: study.digits,
@@ -360,7 +466,15 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
         chain: study.chain.map(|c| c.spec().name),
         laser: study.laser,
         measurands,
-        inputs: study.inputs.iter().map(input_finding).collect(),
+        inputs: study
+            .inputs
+            .iter()
+            .enumerate()
+            .map(|(i, q)| InputFinding {
+                shape: mcr.input_shapes.get(i).cloned().flatten(),
+                ..input_finding(q)
+            })
+            .collect(),
         input_correlations,
         correlation,
         adaptive: adaptive_finding,
@@ -442,4 +556,25 @@ pub fn sensitivity_finding(
         })
         .collect();
     SensitivityFinding { method, measurands }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // The correlation matrix from the engine's merged pairs is the one computed from the
+    // columns afterwards (same chunks, same order).
+    #[test]
+    fn correlation_from_the_engine_equals_the_columns() {
+        let study = crate::scenario::load_file(std::path::Path::new(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/data/torsion-vacuum-20w.toml"
+        )))
+        .unwrap();
+        let s = engine::simulate(&study, engine::Plan::new(100_000, 3)).unwrap();
+        assert_eq!(
+            correlation_from_pairs(3, &s.measurand_pairs),
+            sample_correlation(&s.measurands)
+        );
+    }
 }

@@ -172,7 +172,10 @@ pub fn joint_moments(cols: &[&[f64]]) -> (Vec<Moments>, Vec<CoMoments>) {
     let k = cols.len();
     let n = cols.first().map_or(0, |c| c.len());
     if n == 0 {
-        return (vec![Moments::EMPTY; k], vec![CoMoments::EMPTY; k * k.saturating_sub(1) / 2]);
+        return (
+            vec![Moments::EMPTY; k],
+            vec![CoMoments::EMPTY; k * k.saturating_sub(1) / 2],
+        );
     }
     let nf = n as f64;
     let means: Vec<f64> = cols
@@ -238,16 +241,30 @@ mod tests {
 
     #[test]
     fn joint_moments_agree_with_the_separate_ones() {
-        let x: Vec<f64> = (0..3000).map(|i| 1e3 + ((i * 37) % 101) as f64 * 0.1).collect();
-        let y: Vec<f64> = x.iter().enumerate().map(|(i, v)| -0.5 * v + ((i * 13) % 7) as f64).collect();
+        let x: Vec<f64> = (0..3000)
+            .map(|i| 1e3 + ((i * 37) % 101) as f64 * 0.1)
+            .collect();
+        let y: Vec<f64> = x
+            .iter()
+            .enumerate()
+            .map(|(i, v)| -0.5 * v + ((i * 13) % 7) as f64)
+            .collect();
         let z: Vec<f64> = (0..3000).map(|i| ((i * 7919) % 1000) as f64).collect();
         let (m, c) = joint_moments(&[&x, &y, &z]);
         assert_eq!(m[0], Moments::of(&x));
         assert_eq!(m[1], Moments::of(&y));
         assert_eq!(m[2], Moments::of(&z));
         let direct = CoMoments::of(&x, &y);
-        assert_relative_eq!(c[0].correlation().unwrap(), direct.correlation().unwrap(), max_relative = 1e-12);
-        assert_relative_eq!(c[2].correlation().unwrap(), CoMoments::of(&y, &z).correlation().unwrap(), max_relative = 1e-12);
+        assert_relative_eq!(
+            c[0].correlation().unwrap(),
+            direct.correlation().unwrap(),
+            max_relative = 1e-12
+        );
+        assert_relative_eq!(
+            c[2].correlation().unwrap(),
+            CoMoments::of(&y, &z).correlation().unwrap(),
+            max_relative = 1e-12
+        );
     }
 
     #[test]

@@ -1,6 +1,6 @@
 //! The Monte Carlo result for one measurand (JCGM 101:2008, 7.5 to 7.7).
 
-use super::intervals::coverage_intervals;
+use super::intervals::{CoverageIntervals, coverage_intervals};
 use super::moments::Moments;
 
 /// Estimate, standard uncertainty and coverage intervals of one measurand, in SI.
@@ -22,7 +22,11 @@ pub struct Summary {
 
 /// Summarise the values of one measurand given their moments and the coverage probability.
 pub fn summarize(values: &[f64], moments: &Moments, coverage: f64) -> Summary {
-    let ci = coverage_intervals(values, coverage);
+    from_parts(moments, &coverage_intervals(values, coverage))
+}
+
+/// The summary from the merged moments and the coverage intervals (however they were found).
+pub fn from_parts(moments: &Moments, ci: &CoverageIntervals) -> Summary {
     let u = moments.variance().sqrt();
     let expanded = 0.5 * (ci.symmetric.1 - ci.symmetric.0);
     Summary {

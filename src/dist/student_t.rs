@@ -45,9 +45,18 @@ impl StandardT {
     /// The sampler for `dof` > 0 degrees of freedom.
     pub fn new(dof: f64) -> StandardT {
         let a = 0.5 * dof;
-        let (shape, boost) = if a < 1.0 { (a + 1.0, 1.0 / a) } else { (a, 0.0) };
+        let (shape, boost) = if a < 1.0 {
+            (a + 1.0, 1.0 / a)
+        } else {
+            (a, 0.0)
+        };
         let d = shape - 1.0 / 3.0;
-        StandardT { dof, d, c: 1.0 / (9.0 * d).sqrt(), boost }
+        StandardT {
+            dof,
+            d,
+            c: 1.0 / (9.0 * d).sqrt(),
+            boost,
+        }
     }
 
     /// One draw.
@@ -67,7 +76,11 @@ impl StandardT {
                 break self.d * v;
             }
         };
-        let g = if self.boost > 0.0 { g * super::uniform_open01(rng).powf(self.boost) } else { g };
+        let g = if self.boost > 0.0 {
+            g * super::uniform_open01(rng).powf(self.boost)
+        } else {
+            g
+        };
         z / (2.0 * g / self.dof).sqrt()
     }
 }
@@ -214,7 +227,10 @@ mod tests {
                 let p = reference.cdf(x);
                 let got = draws.iter().filter(|d| **d <= x).count() as f64 / n as f64;
                 let tol = 5.0 * (p * (1.0 - p) / n as f64).sqrt() + 1e-4;
-                assert!((got - p).abs() < tol, "dof {dof}: F({x}) = {p}, sampled {got}");
+                assert!(
+                    (got - p).abs() < tol,
+                    "dof {dof}: F({x}) = {p}, sampled {got}"
+                );
             }
         }
     }

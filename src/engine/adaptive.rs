@@ -111,6 +111,7 @@ pub fn simulate_adaptive(
                         seed: study.seed,
                         first_chunk: b * chunks_per_batch,
                         keep_inputs,
+                        shard: None,
                     },
                 )
             })

@@ -24,7 +24,11 @@ fn advise_huge_pages(v: &[f64]) {
         // how the kernel backs those pages, not their contents (still zero), and its failure is
         // harmless (the advice is ignored).
         unsafe {
-            libc::madvise(aligned as *mut libc::c_void, end - aligned, libc::MADV_HUGEPAGE);
+            libc::madvise(
+                aligned as *mut libc::c_void,
+                end - aligned,
+                libc::MADV_HUGEPAGE,
+            );
         }
     }
 }

@@ -9,9 +9,11 @@
 pub mod adaptive;
 pub mod columns;
 pub mod memory;
+pub mod progress;
 pub mod sampling;
 pub mod sensitivity;
 pub mod stream;
+pub mod streaming;
 
 use crate::analysis::moments::{CoMoments, Moments, joint_moments};
 use crate::error::RunError;
@@ -61,11 +63,15 @@ pub struct Samples {
     /// Joint moments of every pair of measurands (a < b, in the order (0,1), (0,2), ..., (1,2),
     /// ...), for their correlation matrix; combined in chunk order like the moments.
     pub measurand_pairs: Vec<CoMoments>,
+    /// The summary of every chunk, in chunk order (for shards, whose chunks interleave).
+    pub chunks: Vec<ChunkSummary>,
 }
 
 /// The pairs (a, b), a < b, of `n` measurands in the order of `Samples::measurand_pairs`.
 pub fn measurand_pair_order(n: usize) -> Vec<(usize, usize)> {
-    (0..n).flat_map(|a| (a + 1..n).map(move |b| (a, b))).collect()
+    (0..n)
+        .flat_map(|a| (a + 1..n).map(move |b| (a, b)))
+        .collect()
 }
 
 impl Samples {
@@ -89,6 +95,7 @@ impl Samples {
         for (a, b) in self.measurand_pairs.iter_mut().zip(&other.measurand_pairs) {
             *a = a.merge(b);
         }
+        self.chunks.extend(other.chunks);
     }
 }
 
@@ -104,6 +111,8 @@ pub struct Plan {
     pub first_chunk: u64,
     /// Keep the input columns (for sensitivity and exports).
     pub keep_inputs: bool,
+    /// Run only the chunks k with k mod N = K (`Some((K, N))`), for a shard of a run.
+    pub shard: Option<(u64, u64)>,
 }
 
 impl Plan {
@@ -114,8 +123,62 @@ impl Plan {
             seed,
             first_chunk: 0,
             keep_inputs: false,
+            shard: None,
         }
     }
+
+    /// The chunks of the run (or of its shard), ascending, with their trial counts.
+    pub fn chunks(&self) -> Vec<(u64, usize)> {
+        let m = self.trials;
+        let n = m.div_ceil(CHUNK_TRIALS as u64);
+        (0..n)
+            .filter(|k| self.shard.is_none_or(|(part, of)| k % of == part))
+            .map(|k| {
+                (
+                    k,
+                    (m - k * CHUNK_TRIALS as u64).min(CHUNK_TRIALS as u64) as usize,
+                )
+            })
+            .collect()
+    }
+}
+
+/// What one chunk gives besides its values: the statistics that are merged in chunk order.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct ChunkSummary {
+    /// The chunk's index in the stream (`first_chunk` included).
+    pub index: u64,
+    /// Moments of each measurand.
+    pub moments: Vec<Moments>,
+    /// Joint moments of each correlated input pair.
+    pub input_pairs: Vec<CoMoments>,
+    /// Joint moments of each pair of measurands.
+    pub measurand_pairs: Vec<CoMoments>,
+}
+
+/// The merged statistics of chunk summaries, combined in ascending chunk order.
+pub fn merge_chunks(
+    chunks: &[ChunkSummary],
+    measurands: usize,
+    input_pairs: usize,
+) -> (Vec<Moments>, Vec<CoMoments>, Vec<CoMoments>) {
+    let mut order: Vec<&ChunkSummary> = chunks.iter().collect();
+    order.sort_by_key(|c| c.index);
+    let mut moments = vec![Moments::EMPTY; measurands];
+    let mut inputs = vec![CoMoments::EMPTY; input_pairs];
+    let mut pairs = vec![CoMoments::EMPTY; measurand_pair_order(measurands).len()];
+    for c in order {
+        for (t, p) in moments.iter_mut().zip(&c.moments) {
+            *t = t.merge(p);
+        }
+        for (t, p) in inputs.iter_mut().zip(&c.input_pairs) {
+            *t = t.merge(p);
+        }
+        for (t, p) in pairs.iter_mut().zip(&c.measurand_pairs) {
+            *t = t.merge(p);
+        }
+    }
+    (moments, inputs, pairs)
 }
 
 struct Fault {
@@ -125,97 +188,106 @@ struct Fault {
     inputs: Vec<f64>,
 }
 
-/// What one chunk reports besides its samples.
-#[derive(Default)]
-struct ChunkStats {
-    moments: Vec<Moments>,
-    pairs: Vec<CoMoments>,
-    measurand_pairs: Vec<CoMoments>,
+impl Fault {
+    /// The marker of a chunk skipped because a stop was asked for.
+    fn interrupted() -> Fault {
+        Fault {
+            trial: u64::MAX,
+            measurand: usize::MAX,
+            value: 0.0,
+            inputs: Vec::new(),
+        }
+    }
 }
 
-/// Run the trials of `plan` on the current rayon pool.
+fn fault_error(study: &Study, f: Fault) -> RunError {
+    if f.measurand == usize::MAX {
+        return RunError::Interrupted;
+    }
+    let inputs = study
+        .inputs
+        .iter()
+        .zip(&f.inputs)
+        .map(|(q, v)| format!("{} = {v:e}", q.name))
+        .collect::<Vec<_>>()
+        .join(", ");
+    RunError::NonFinite {
+        measurand: study.measurands[f.measurand].name.clone(),
+        trial: f.trial,
+        value: format!("{}", f.value),
+        inputs,
+    }
+}
+
+/// Run the chunks of `plan` (all of them, or those of its shard) on the current rayon pool,
+/// keeping the values in memory.
 pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
-    let m = usize::try_from(plan.trials).map_err(|_| RunError::MemoryBudget {
-        trials: plan.trials,
-        needed: "more than this machine can address".into(),
-        budget: "-".into(),
-    })?;
+    let chunks = plan.chunks();
+    let m: usize = chunks.iter().map(|c| c.1).sum();
     let model = &study.model;
     let n_in = model.inputs;
     let n_meas = model.measurands;
-    let n_chunks = m.div_ceil(CHUNK_TRIALS);
 
     let mut meas_cols: Vec<Vec<f64>> = (0..n_meas).map(|_| columns::column(m)).collect();
     let mut in_cols: Option<Vec<Vec<f64>>> = plan
         .keep_inputs
         .then(|| (0..n_in).map(|_| columns::column(m)).collect());
 
-    let mut per_chunk: Vec<Vec<&mut [f64]>> = (0..n_chunks).map(|_| Vec::new()).collect();
-    for col in meas_cols.iter_mut() {
-        for (k, s) in col.chunks_mut(CHUNK_TRIALS).enumerate() {
-            per_chunk[k].push(s);
+    // Cut every column into the chunks' slices, in chunk order.
+    let mut per_chunk: Vec<Vec<&mut [f64]>> = (0..chunks.len()).map(|_| Vec::new()).collect();
+    fn cut<'a>(col: &'a mut [f64], chunks: &[(u64, usize)], per_chunk: &mut [Vec<&'a mut [f64]>]) {
+        let mut rest = col;
+        for (j, &(_, len)) in chunks.iter().enumerate() {
+            let (head, tail) = rest.split_at_mut(len);
+            per_chunk[j].push(head);
+            rest = tail;
         }
+    }
+    for col in meas_cols.iter_mut() {
+        cut(col, &chunks, &mut per_chunk);
     }
     if let Some(cols) = in_cols.as_mut() {
         for col in cols.iter_mut() {
-            for (k, s) in col.chunks_mut(CHUNK_TRIALS).enumerate() {
-                per_chunk[k].push(s);
-            }
+            cut(col, &chunks, &mut per_chunk);
         }
     }
 
     let steps = sampling::fill_steps(study);
     let first_failed_chunk = AtomicU64::new(u64::MAX);
-    let results: Vec<Result<ChunkStats, Fault>> = per_chunk
+    let results: Vec<Result<ChunkSummary, Fault>> = per_chunk
         .into_par_iter()
-        .enumerate()
-        .map(|(k, mut slices)| {
-            if (k as u64) > first_failed_chunk.load(Ordering::Relaxed) {
-                return Ok(ChunkStats::default());
+        .zip(chunks.par_iter())
+        .map(|(mut slices, &(k, _))| {
+            if k > first_failed_chunk.load(Ordering::Relaxed) {
+                return Ok(ChunkSummary {
+                    index: k,
+                    ..ChunkSummary::default()
+                });
             }
             let (outs, ins) = slices.split_at_mut(n_meas);
             let ins = if plan.keep_inputs { Some(ins) } else { None };
             let r = run_chunk(study, &steps, plan, k, outs, ins);
             if r.is_err() {
-                first_failed_chunk.fetch_min(k as u64, Ordering::Relaxed);
+                first_failed_chunk.fetch_min(k, Ordering::Relaxed);
             }
             r
         })
         .collect();
-
-    let mut moments = vec![Moments::EMPTY; n_meas];
-    let mut input_pairs = vec![CoMoments::EMPTY; study.correlations.pairs.len()];
-    let mut measurand_pairs = vec![CoMoments::EMPTY; measurand_pair_order(n_meas).len()];
+    // The first fault in chunk order decides (an interruption only when no chunk failed).
+    let mut summaries = Vec::with_capacity(results.len());
+    let mut interrupted = false;
     for r in results {
         match r {
-            Ok(chunk) => {
-                for (total, part) in moments.iter_mut().zip(&chunk.moments) {
-                    *total = total.merge(part);
-                }
-                for (total, part) in input_pairs.iter_mut().zip(&chunk.pairs) {
-                    *total = total.merge(part);
-                }
-                for (total, part) in measurand_pairs.iter_mut().zip(&chunk.measurand_pairs) {
-                    *total = total.merge(part);
-                }
-            }
-            Err(f) => {
-                let inputs = study
-                    .inputs
-                    .iter()
-                    .zip(&f.inputs)
-                    .map(|(q, v)| format!("{} = {v:e}", q.name))
-                    .collect::<Vec<_>>()
-                    .join(", ");
-                return Err(RunError::NonFinite {
-                    measurand: study.measurands[f.measurand].name.clone(),
-                    trial: f.trial,
-                    value: format!("{}", f.value),
-                    inputs,
-                });
-            }
+            Ok(s) => summaries.push(s),
+            Err(f) if f.measurand == usize::MAX => interrupted = true,
+            Err(f) => return Err(fault_error(study, f)),
         }
     }
+    if interrupted {
+        return Err(RunError::Interrupted);
+    }
+    let (moments, input_pairs, measurand_pairs) =
+        merge_chunks(&summaries, n_meas, study.correlations.pairs.len());
     Ok(Samples {
         trials: m,
         measurands: meas_cols,
@@ -223,7 +295,35 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
         moments,
         input_pairs,
         measurand_pairs,
+        chunks: summaries,
     })
+}
+
+/// Run the chunks `chunks` of `plan` without keeping their values: each chunk's values are
+/// handed to `sink` (chunk index, one slice per measurand) as soon as they are made, and its
+/// summary is returned, in the order of `chunks`. For runs that do not fit in memory.
+pub fn stream_chunks<T: Send>(
+    study: &Study,
+    plan: Plan,
+    chunks: &[(u64, usize)],
+    sink: &(dyn Fn(u64, &[&[f64]]) -> T + Sync),
+) -> Result<Vec<(ChunkSummary, T)>, RunError> {
+    let n_meas = study.model.measurands;
+    let steps = sampling::fill_steps(study);
+    let results: Vec<Result<(ChunkSummary, T), Fault>> = chunks
+        .par_iter()
+        .map(|&(k, len)| {
+            let mut buffers: Vec<Vec<f64>> = (0..n_meas).map(|_| vec![0.0; len]).collect();
+            let mut outs: Vec<&mut [f64]> = buffers.iter_mut().map(Vec::as_mut_slice).collect();
+            let summary = run_chunk(study, &steps, plan, k, &mut outs, None)?;
+            let views: Vec<&[f64]> = buffers.iter().map(Vec::as_slice).collect();
+            Ok((summary, sink(k, &views)))
+        })
+        .collect();
+    results
+        .into_iter()
+        .map(|r| r.map_err(|f| fault_error(study, f)))
+        .collect()
 }
 
 /// One chunk: draw, evaluate, store, and summarise its measurand values.
@@ -231,15 +331,18 @@ fn run_chunk(
     study: &Study,
     steps: &[sampling::FillStep],
     plan: Plan,
-    chunk: usize,
+    chunk: u64,
     outs: &mut [&mut [f64]],
     mut ins: Option<&mut [&mut [f64]]>,
-) -> Result<ChunkStats, Fault> {
+) -> Result<ChunkSummary, Fault> {
+    if progress::interrupted() {
+        return Err(Fault::interrupted());
+    }
     let model = &study.model;
     let n_in = model.inputs;
     let stride = BLOCK_TRIALS;
     let n = outs.first().map_or(0, |s| s.len());
-    let global_chunk = plan.first_chunk + chunk as u64;
+    let global_chunk = plan.first_chunk + chunk;
     let mut rng = stream::chunk_stream(plan.seed, global_chunk);
     let mut work = vec![0.0f64; model.columns() * stride];
     let mut stack = vec![0.0f64; model.stack_depth() * stride];
@@ -276,9 +379,11 @@ fn run_chunk(
     }
     let cols: Vec<&[f64]> = outs.iter().map(|o| &**o).collect();
     let (moments, measurand_pairs) = joint_moments(&cols);
-    Ok(ChunkStats {
+    progress::add(n as u64);
+    Ok(ChunkSummary {
+        index: global_chunk,
         moments,
-        pairs: pair_stats,
+        input_pairs: pair_stats,
         measurand_pairs,
     })
 }

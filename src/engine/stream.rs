@@ -21,10 +21,20 @@ pub type Generator = Xoshiro256PlusPlus;
 
 /// Low 256 coefficients of the characteristic polynomial of xoshiro256 (the x^256 term is
 /// implicit), as rand_xoshiro 0.8 uses them in `jump_ce`.
-const CHARPOLY: [u64; 4] = [0x9d11_6f2b_b0f0_f001, 0x0280_002b_cefd_1a5e, 0x04b4_edcf_2625_9f85, 0x0003_c03c_3f3e_cb19];
+const CHARPOLY: [u64; 4] = [
+    0x9d11_6f2b_b0f0_f001,
+    0x0280_002b_cefd_1a5e,
+    0x04b4_edcf_2625_9f85,
+    0x0003_c03c_3f3e_cb19,
+];
 
 /// x^(2^128) mod charpoly: the polynomial of rand_xoshiro's `jump`.
-const JUMP: [u64; 4] = [0x180e_c6d3_3cfd_0aba, 0xd5a6_1266_f0c9_392c, 0xa958_2618_e03f_c9aa, 0x39ab_dc45_29b1_661c];
+const JUMP: [u64; 4] = [
+    0x180e_c6d3_3cfd_0aba,
+    0xd5a6_1266_f0c9_392c,
+    0xa958_2618_e03f_c9aa,
+    0x39ab_dc45_29b1_661c,
+];
 
 fn mul_x(a: &mut [u64; 4]) {
     let carry = a[3] >> 63;

@@ -113,9 +113,15 @@ fn evaluate_chain<T: Scalar>(chain: &BoundChain, work: &mut [T], stride: usize, 
     // One match per block; the chain function is then inlined into its trial loop.
     match chain.kind {
         ChainKind::TorsionPower => chain_loop(chain, work, stride, n, torsion::torsion_power::<T>),
-        ChainKind::TorsionSignal => chain_loop(chain, work, stride, n, torsion::torsion_signal::<T>),
-        ChainKind::WeighingPower => chain_loop(chain, work, stride, n, weighing::weighing_power::<T>),
-        ChainKind::WeighingSignal => chain_loop(chain, work, stride, n, weighing::weighing_signal::<T>),
+        ChainKind::TorsionSignal => {
+            chain_loop(chain, work, stride, n, torsion::torsion_signal::<T>)
+        }
+        ChainKind::WeighingPower => {
+            chain_loop(chain, work, stride, n, weighing::weighing_power::<T>)
+        }
+        ChainKind::WeighingSignal => {
+            chain_loop(chain, work, stride, n, weighing::weighing_signal::<T>)
+        }
     }
 }
 

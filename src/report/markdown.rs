@@ -9,10 +9,12 @@ use crate::analysis::planning::{Comparison, PlanFinding};
 use crate::analysis::{Findings, MeasurandFinding};
 
 /// Where the figures are, to link them.
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Debug)]
 pub struct MarkdownReport {
     /// The folder given to `--plots`, as written.
     pub figures: Option<String>,
+    /// The format of the figures.
+    pub plot_format: super::plots::PlotFormat,
 }
 
 fn table(headers: &[&str], rows: &[Vec<String>]) -> String {
@@ -243,7 +245,7 @@ impl MarkdownReport {
                 crate::scenario::PSD_CONVENTION
             ));
         }
-        out.push_str(&self.figures_section(&super::plots::figure_names(f)));
+        out.push_str(&self.figures_section(&super::plots::figure_names(f, self.plot_format)));
         out.push_str(&format!(
             "\n## Method\n\n{METHOD} Random streams: {}.\n",
             f.generator

@@ -1,7 +1,9 @@
 //! Every output format, one exporter per format behind [`Exporter`]. Exporters turn
 //! [`Findings`] into bytes; they format and never compute.
 
+pub mod bundle;
 pub mod cautions;
+pub mod csv;
 pub mod decisions_text;
 pub mod format;
 pub mod json;
@@ -32,14 +34,25 @@ pub enum Format {
     Json,
     /// The proposal-ready report.
     Markdown,
+    /// The summary and the budget as CSV tables.
+    Csv,
 }
 
-/// The exporter of a format; `figures` is the folder of `--plots`, for the Markdown links.
-pub fn exporter(format: Format, figures: Option<String>) -> Box<dyn Exporter> {
+/// The exporter of a format; `figures` is the folder of `--plots` and the figures' format, for
+/// the Markdown links.
+pub fn exporter(
+    format: Format,
+    figures: Option<String>,
+    plot_format: plots::PlotFormat,
+) -> Box<dyn Exporter> {
     match format {
         Format::Text => Box::new(text::TextReport),
         Format::Json => Box::new(json::JsonReport),
-        Format::Markdown => Box::new(markdown::MarkdownReport { figures }),
+        Format::Markdown => Box::new(markdown::MarkdownReport {
+            figures,
+            plot_format,
+        }),
+        Format::Csv => Box::new(csv::CsvReport),
     }
 }
 

@@ -552,3 +552,47 @@ pub(crate) fn check_domain(
     }
     Ok(())
 }
+
+/// The JSON Schema of one input table: a constant, or one object per distribution family (its
+/// name or alias in `dist`, its parameters required).
+pub fn input_schema() -> serde_json::Value {
+    use serde_json::json;
+    let quantity = json!({"$ref": "#/$defs/quantity"});
+    let mut variants = vec![json!({
+        "type": "object",
+        "description": "a constant",
+        "required": ["value"],
+        "properties": {"value": quantity, "note": {"type": "string"}},
+        "additionalProperties": false,
+    })];
+    for (family, params, example) in FAMILIES {
+        let mut names: Vec<&str> = vec![family];
+        names.extend(ALIASES.iter().filter(|a| a.1 == *family).map(|a| a.0));
+        let mut props = serde_json::Map::new();
+        props.insert("dist".into(), json!({"enum": names}));
+        props.insert("note".into(), json!({"type": "string"}));
+        let mut required = vec!["dist".to_string()];
+        for (p, kind) in params.iter() {
+            required.push((*p).to_string());
+            props.insert(
+                (*p).to_string(),
+                match kind {
+                    Param::Quantity => quantity.clone(),
+                    Param::Pure => json!({"type": "number"}),
+                    Param::Quantities => json!({"type": "array", "items": quantity, "minItems": 2}),
+                },
+            );
+        }
+        if !matches!(*family, "t" | "readings") {
+            props.insert("dof".into(), json!({"anyOf": [{"type": "number", "exclusiveMinimum": 0}, {"enum": ["inf", "infinite", "infinity"]}]}));
+        }
+        variants.push(json!({
+            "type": "object",
+            "description": example,
+            "required": required,
+            "properties": props,
+            "additionalProperties": false,
+        }));
+    }
+    json!({"oneOf": variants})
+}

@@ -5,6 +5,7 @@
 mod correlation;
 mod inputs;
 mod noise;
+pub mod schema;
 mod source;
 mod table;
 

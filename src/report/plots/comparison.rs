@@ -2,90 +2,85 @@
 
 use super::super::text::percent;
 use crate::analysis::planning::Comparison;
+use plotters::coord::Shift;
 use plotters::prelude::*;
 
 const BAR: RGBColor = RGBColor(31, 119, 180);
 
-/// The chart as SVG text.
-pub fn chart(c: &Comparison) -> Result<String, String> {
-    let mut svg = String::new();
-    {
-        let n = c.rows.len();
-        let width = (200 + 120 * n as u32).clamp(640, 1600);
-        let area = SVGBackend::with_string(&mut svg, (width, 480)).into_drawing_area();
-        let draw = || -> Result<(), Box<dyn std::error::Error>> {
-            area.fill(&WHITE)?;
-            let rel = |r: &crate::analysis::planning::ComparisonRow| {
-                let y = r.summary.estimate;
-                (
-                    100.0 * (r.summary.symmetric_interval.0 / y - 1.0),
-                    100.0 * (r.summary.symmetric_interval.1 / y - 1.0),
-                )
-            };
-            let span = c
-                .rows
-                .iter()
-                .map(|r| {
-                    let (a, b) = rel(r);
-                    a.abs().max(b.abs())
-                })
-                .fold(0.0f64, f64::max)
-                * 1.15;
-            let span = if span > 0.0 { span } else { 1.0 };
-            let names: Vec<String> = c
-                .rows
-                .iter()
-                .map(|r| format!("{} (rank {})", r.name, r.rank))
-                .collect();
-            let segments = n.max(2);
-            let first = &c.rows[0];
-            let m = &first.findings.measurands[first.measurand];
-            let mut chart = ChartBuilder::on(&area)
-                .caption(
-                    format!(
-                        "{} coverage intervals of {}, relative to each design's estimate",
-                        percent(c.coverage),
-                        m.name
-                    ),
-                    ("sans-serif", 16),
-                )
-                .margin(12)
-                .x_label_area_size(60)
-                .y_label_area_size(70)
-                .build_cartesian_2d((0..segments as i32 - 1).into_segmented(), -span..span)?
-                .set_secondary_coord(0.0..segments as f64, -span..span);
-            chart
-                .configure_mesh()
-                .disable_x_mesh()
-                .light_line_style(TRANSPARENT)
-                .x_desc("design")
-                .y_desc(format!("deviation from the estimate of {} / %", m.name))
-                .x_labels(segments)
-                .x_label_formatter(&|v| match v {
-                    SegmentValue::CenterOf(i) => {
-                        names.get(*i as usize).cloned().unwrap_or_default()
-                    }
-                    _ => String::new(),
-                })
-                .label_style(("sans-serif", 12))
-                .draw()?;
-            chart.draw_secondary_series(c.rows.iter().enumerate().map(|(i, r)| {
-                let (a, b) = rel(r);
-                Rectangle::new(
-                    [(i as f64 + 0.3, a), (i as f64 + 0.7, b)],
-                    BAR.mix(0.6).filled(),
-                )
-            }))?;
-            chart.draw_secondary_series(c.rows.iter().enumerate().map(|(i, _)| {
-                PathElement::new(
-                    vec![(i as f64 + 0.25, 0.0), (i as f64 + 0.75, 0.0)],
-                    BLACK.stroke_width(2),
-                )
-            }))?;
-            area.present()?;
-            Ok(())
-        };
-        draw().map_err(|e| format!("cannot draw the comparison chart: {e}"))?;
-    }
-    Ok(svg)
+/// Draw the chart.
+pub fn draw<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    c: &Comparison,
+) -> Result<(), Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
+    let n = c.rows.len();
+    area.fill(&WHITE)?;
+    let rel = |r: &crate::analysis::planning::ComparisonRow| {
+        let y = r.summary.estimate;
+        (
+            100.0 * (r.summary.symmetric_interval.0 / y - 1.0),
+            100.0 * (r.summary.symmetric_interval.1 / y - 1.0),
+        )
+    };
+    let span = c
+        .rows
+        .iter()
+        .map(|r| {
+            let (a, b) = rel(r);
+            a.abs().max(b.abs())
+        })
+        .fold(0.0f64, f64::max)
+        * 1.15;
+    let span = if span > 0.0 { span } else { 1.0 };
+    let names: Vec<String> = c
+        .rows
+        .iter()
+        .map(|r| format!("{} (rank {})", r.name, r.rank))
+        .collect();
+    let segments = n.max(2);
+    let first = &c.rows[0];
+    let m = &first.findings.measurands[first.measurand];
+    let mut chart = ChartBuilder::on(area)
+        .caption(
+            format!(
+                "{} coverage intervals of {}, relative to each design's estimate",
+                percent(c.coverage),
+                m.name
+            ),
+            ("sans-serif", 16),
+        )
+        .margin(12)
+        .x_label_area_size(60)
+        .y_label_area_size(70)
+        .build_cartesian_2d((0..segments as i32 - 1).into_segmented(), -span..span)?
+        .set_secondary_coord(0.0..segments as f64, -span..span);
+    chart
+        .configure_mesh()
+        .disable_x_mesh()
+        .light_line_style(TRANSPARENT)
+        .x_desc("design")
+        .y_desc(format!("deviation from the estimate of {} / %", m.name))
+        .x_labels(segments)
+        .x_label_formatter(&|v| match v {
+            SegmentValue::CenterOf(i) => names.get(*i as usize).cloned().unwrap_or_default(),
+            _ => String::new(),
+        })
+        .label_style(("sans-serif", 12))
+        .draw()?;
+    chart.draw_secondary_series(c.rows.iter().enumerate().map(|(i, r)| {
+        let (a, b) = rel(r);
+        Rectangle::new(
+            [(i as f64 + 0.3, a), (i as f64 + 0.7, b)],
+            BAR.mix(0.6).filled(),
+        )
+    }))?;
+    chart.draw_secondary_series(c.rows.iter().enumerate().map(|(i, _)| {
+        PathElement::new(
+            vec![(i as f64 + 0.25, 0.0), (i as f64 + 0.75, 0.0)],
+            BLACK.stroke_width(2),
+        )
+    }))?;
+    Ok(())
 }

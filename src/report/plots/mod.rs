@@ -1,12 +1,17 @@
-//! Figures, drawn with plotters into SVG text with a bundled font (DejaVu Sans, licence in
-//! `assets/fonts/LICENSE-DejaVu.txt`), so that they come out the same on every machine.
+//! Figures, drawn with plotters into SVG (default) or PNG with a bundled font (DejaVu Sans,
+//! licence in `assets/fonts/LICENSE-DejaVu.txt`), so that they come out the same on every
+//! machine, with or without system fonts. Every chart is written once, generic over the plotters
+//! backend.
 
 mod comparison;
+mod distributions;
 mod sensitivity;
 mod sweep;
 
 use crate::analysis::Findings;
 use crate::analysis::planning::Comparison;
+use plotters::coord::Shift;
+use plotters::prelude::*;
 use plotters::style::FontStyle;
 use std::sync::Once;
 
@@ -23,19 +28,90 @@ pub fn ensure_font() {
     });
 }
 
-/// A figure: its file name, a caption, and its SVG text.
+/// Image formats of the figures.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum PlotFormat {
+    /// Scalable vector graphics (text).
+    Svg,
+    /// Portable network graphics (bitmap).
+    Png,
+}
+
+impl PlotFormat {
+    /// The file extension.
+    pub fn extension(self) -> &'static str {
+        match self {
+            PlotFormat::Svg => "svg",
+            PlotFormat::Png => "png",
+        }
+    }
+}
+
+/// A figure: its file name, a caption, and its bytes.
 #[derive(Clone, Debug)]
 pub struct Figure {
     /// File name inside the figures folder.
     pub file: String,
     /// What it shows.
     pub caption: String,
-    /// The SVG.
-    pub svg: String,
+    /// The SVG text or PNG bytes.
+    pub bytes: Vec<u8>,
+}
+
+/// The error type of a chart drawing.
+type DrawResult = Result<(), Box<dyn std::error::Error>>;
+
+/// Draw a chart of `size` into the format's bytes.
+fn render(
+    format: PlotFormat,
+    size: (u32, u32),
+    draw: &dyn Fn(&DrawingArea<SVGBackend<'_>, Shift>) -> DrawResult,
+    draw_png: &dyn Fn(&DrawingArea<BitMapBackend<'_>, Shift>) -> DrawResult,
+) -> Result<Vec<u8>, String> {
+    ensure_font();
+    match format {
+        PlotFormat::Svg => {
+            let mut svg = String::new();
+            {
+                let area = SVGBackend::with_string(&mut svg, size).into_drawing_area();
+                draw(&area).map_err(|e| format!("cannot draw a figure: {e}"))?;
+                area.present()
+                    .map_err(|e| format!("cannot draw a figure: {e}"))?;
+            }
+            Ok(svg.into_bytes())
+        }
+        PlotFormat::Png => {
+            let mut rgb = vec![0u8; size.0 as usize * size.1 as usize * 3];
+            {
+                let area = BitMapBackend::with_buffer(&mut rgb, size).into_drawing_area();
+                draw_png(&area).map_err(|e| format!("cannot draw a figure: {e}"))?;
+                area.present()
+                    .map_err(|e| format!("cannot draw a figure: {e}"))?;
+            }
+            let img = image::RgbImage::from_raw(size.0, size.1, rgb)
+                .ok_or("cannot make the PNG image")?;
+            let mut out = std::io::Cursor::new(Vec::new());
+            img.write_to(&mut out, image::ImageOutputFormat::Png)
+                .map_err(|e| format!("cannot encode the PNG image: {e}"))?;
+            Ok(out.into_inner())
+        }
+    }
+}
+
+/// Render one chart function (generic over the backend) in a format.
+macro_rules! chart {
+    ($format:expr, $size:expr, |$area:ident| $body:expr) => {
+        render(
+            $format,
+            $size,
+            &|$area: &DrawingArea<SVGBackend<'_>, Shift>| $body,
+            &|$area: &DrawingArea<BitMapBackend<'_>, Shift>| $body,
+        )
+    };
 }
 
 /// A figure file name made from a quantity name.
-pub fn file_name(prefix: &str, name: &str) -> String {
+pub fn file_name(prefix: &str, name: &str, format: PlotFormat) -> String {
     let safe: String = name
         .chars()
         .map(|c| {
@@ -46,17 +122,37 @@ pub fn file_name(prefix: &str, name: &str) -> String {
             }
         })
         .collect();
-    format!("{prefix}-{safe}.svg")
+    format!("{prefix}-{safe}.{}", format.extension())
 }
 
 /// The figures the findings call for, as (file name, caption), without drawing them.
-pub fn figure_names(f: &Findings) -> Vec<(String, String)> {
+pub fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, String)> {
     let mut out = Vec::new();
+    for m in &f.measurands {
+        if m.shape.is_some() {
+            out.push((
+                file_name("distribution", &m.name, format),
+                format!("Distribution of {} from the trials", m.name),
+            ));
+            out.push((
+                file_name("cdf", &m.name, format),
+                format!("Distribution function of {}", m.name),
+            ));
+        }
+    }
+    for q in &f.inputs {
+        if q.shape.is_some() {
+            out.push((
+                file_name("input", &q.name, format),
+                format!("Sampled values of {} against its stated density", q.name),
+            ));
+        }
+    }
     if let Some(s) = &f.sensitivity {
         for m in 0..s.measurands.len() {
             let name = &f.measurands[m].name;
             out.push((
-                file_name("sensitivity", name),
+                file_name("sensitivity", name, format),
                 format!("Sobol indices of {name}"),
             ));
         }
@@ -64,7 +160,7 @@ pub fn figure_names(f: &Findings) -> Vec<(String, String)> {
     if let Some(sw) = &f.sweep {
         let input = &f.inputs[sw.input].name;
         out.push((
-            file_name("sweep", input),
+            file_name("sweep", input, format),
             format!(
                 "Relative uncertainty of {} along {input}",
                 f.measurands[sw.measurand].name
@@ -75,39 +171,55 @@ pub fn figure_names(f: &Findings) -> Vec<(String, String)> {
 }
 
 /// Every figure of a run's findings.
-pub fn figures(f: &Findings) -> Result<Vec<Figure>, String> {
-    ensure_font();
-    let names = figure_names(f);
+pub fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, String> {
+    let mut names = figure_names(f, format).into_iter();
     let mut out = Vec::new();
-    let mut next = names.into_iter();
-    if let Some(s) = &f.sensitivity {
-        for (m, rows) in s.measurands.iter().enumerate() {
-            let (file, caption) = next.next().unwrap_or_default();
-            out.push(Figure {
-                file,
-                caption,
-                svg: sensitivity::chart(f, m, rows)?,
-            });
-        }
-    }
-    if let Some(sw) = &f.sweep {
-        let (file, caption) = next.next().unwrap_or_default();
+    let mut push = |bytes: Vec<u8>| {
+        let (file, caption) = names.next().unwrap_or_default();
         out.push(Figure {
             file,
             caption,
-            svg: sweep::chart(f, sw)?,
+            bytes,
         });
+    };
+    for m in &f.measurands {
+        if let Some(shape) = &m.shape {
+            push(chart!(format, (800, 500), |a| distributions::measurand(
+                a, f, m, shape
+            ))?);
+            push(chart!(format, (800, 500), |a| distributions::cdf(
+                a, f, m, shape
+            ))?);
+        }
+    }
+    for q in &f.inputs {
+        if let Some(shape) = &q.shape {
+            push(chart!(format, (720, 450), |a| distributions::input(
+                a, q, shape
+            ))?);
+        }
+    }
+    if let Some(s) = &f.sensitivity {
+        for (m, rows) in s.measurands.iter().enumerate() {
+            let width = (160 + 70 * rows.len() as u32).clamp(640, 1600);
+            push(chart!(format, (width, 480), |a| sensitivity::draw(
+                a, f, m, rows
+            ))?);
+        }
+    }
+    if let Some(sw) = &f.sweep {
+        push(chart!(format, (720, 480), |a| sweep::draw(a, f, sw))?);
     }
     Ok(out)
 }
 
 /// The figure of a comparison: every design's coverage interval relative to its estimate.
-pub fn comparison_figures(c: &Comparison) -> Result<Vec<Figure>, String> {
-    ensure_font();
+pub fn comparison_figures(c: &Comparison, format: PlotFormat) -> Result<Vec<Figure>, String> {
+    let width = (200 + 120 * c.rows.len() as u32).clamp(640, 1600);
     Ok(vec![Figure {
-        file: "comparison.svg".into(),
+        file: format!("comparison.{}", format.extension()),
         caption: "Coverage intervals of the designs, relative to each estimate".into(),
-        svg: comparison::chart(c)?,
+        bytes: chart!(format, (width, 480), |a| comparison::draw(a, c))?,
     }])
 }
 

@@ -7,12 +7,16 @@ use plotters::prelude::*;
 const FIRST: RGBColor = RGBColor(31, 119, 180);
 const TOTAL: RGBColor = RGBColor(255, 127, 14);
 
-fn draw(
-    area: &DrawingArea<SVGBackend<'_>, Shift>,
+/// Draw the chart.
+pub fn draw<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
     f: &Findings,
     m: usize,
     rows: &[SensitivityRow],
-) -> Result<(), Box<dyn std::error::Error>> {
+) -> Result<(), Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
     area.fill(&WHITE)?;
     let segments = rows.len().max(2);
     let lo = rows
@@ -102,17 +106,5 @@ fn draw(
         .border_style(BLACK)
         .label_font(("sans-serif", 12))
         .draw()?;
-    area.present()?;
     Ok(())
-}
-
-/// The chart as SVG text.
-pub fn chart(f: &Findings, m: usize, rows: &[SensitivityRow]) -> Result<String, String> {
-    let mut svg = String::new();
-    {
-        let width = (160 + 70 * rows.len() as u32).clamp(640, 1600);
-        let area = SVGBackend::with_string(&mut svg, (width, 480)).into_drawing_area();
-        draw(&area, f, m, rows).map_err(|e| format!("cannot draw the sensitivity chart: {e}"))?;
-    }
-    Ok(svg)
 }

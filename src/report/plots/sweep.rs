@@ -3,96 +3,93 @@
 use super::super::text::percent;
 use crate::analysis::Findings;
 use crate::analysis::planning::SweepFinding;
+use plotters::coord::Shift;
 use plotters::prelude::*;
 
 const LINE: RGBColor = RGBColor(31, 119, 180);
 const LINE2: RGBColor = RGBColor(255, 127, 14);
 
-/// The chart as SVG text.
-pub fn chart(f: &Findings, sw: &SweepFinding) -> Result<String, String> {
-    let mut svg = String::new();
-    {
-        let area = SVGBackend::with_string(&mut svg, (720, 480)).into_drawing_area();
-        let draw = || -> Result<(), Box<dyn std::error::Error>> {
-            area.fill(&WHITE)?;
-            let q = &f.inputs[sw.input];
-            let m = &f.measurands[sw.measurand];
-            let k = q.shown_unit.factor;
-            let xs: Vec<f64> = sw.points.iter().map(|p| p.value / k).collect();
-            let rel_u: Vec<f64> = sw
-                .points
-                .iter()
-                .map(|p| 100.0 * p.summary.standard_uncertainty / p.summary.estimate.abs())
-                .collect();
-            let rel_big: Vec<f64> = sw
-                .points
-                .iter()
-                .map(|p| 100.0 * p.summary.expanded_uncertainty / p.summary.estimate.abs())
-                .collect();
-            let (x0, x1) = (
-                xs.iter().copied().fold(f64::INFINITY, f64::min),
-                xs.iter().copied().fold(f64::NEG_INFINITY, f64::max),
-            );
-            let ymax = rel_big.iter().copied().fold(0.0f64, f64::max) * 1.1;
-            let ymax = if ymax > 0.0 && ymax.is_finite() {
-                ymax
-            } else {
-                1.0
-            };
-            let unit = if q.shown_unit.symbol.is_empty() {
-                String::new()
-            } else {
-                format!(" / {}", q.shown_unit.symbol)
-            };
-            let mut chart = ChartBuilder::on(&area)
-                .caption(
-                    format!("Relative uncertainty of {} along {}", m.name, q.name),
-                    ("sans-serif", 18),
-                )
-                .margin(12)
-                .x_label_area_size(50)
-                .y_label_area_size(70)
-                .build_cartesian_2d(x0..x1, 0.0..ymax)?;
-            chart
-                .configure_mesh()
-                .light_line_style(TRANSPARENT)
-                .x_desc(format!("{}{unit}", q.name))
-                .y_desc(format!("relative uncertainty of {} / %", m.name))
-                .label_style(("sans-serif", 12))
-                .draw()?;
-            chart
-                .draw_series(
-                    LineSeries::new(
-                        xs.iter().copied().zip(rel_big.iter().copied()),
-                        LINE.stroke_width(2),
-                    )
-                    .point_size(3),
-                )?
-                .label(format!("expanded ({})", percent(f.coverage)))
-                .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 16, y)], LINE.stroke_width(2)));
-            chart
-                .draw_series(
-                    LineSeries::new(
-                        xs.iter().copied().zip(rel_u.iter().copied()),
-                        LINE2.stroke_width(2),
-                    )
-                    .point_size(3),
-                )?
-                .label("standard")
-                .legend(|(x, y)| {
-                    PathElement::new(vec![(x, y), (x + 16, y)], LINE2.stroke_width(2))
-                });
-            chart
-                .configure_series_labels()
-                .position(SeriesLabelPosition::UpperRight)
-                .background_style(WHITE.mix(0.8))
-                .border_style(BLACK)
-                .label_font(("sans-serif", 12))
-                .draw()?;
-            area.present()?;
-            Ok(())
-        };
-        draw().map_err(|e| format!("cannot draw the sweep chart: {e}"))?;
-    }
-    Ok(svg)
+/// Draw the chart.
+pub fn draw<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    f: &Findings,
+    sw: &SweepFinding,
+) -> Result<(), Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
+    area.fill(&WHITE)?;
+    let q = &f.inputs[sw.input];
+    let m = &f.measurands[sw.measurand];
+    let k = q.shown_unit.factor;
+    let xs: Vec<f64> = sw.points.iter().map(|p| p.value / k).collect();
+    let rel_u: Vec<f64> = sw
+        .points
+        .iter()
+        .map(|p| 100.0 * p.summary.standard_uncertainty / p.summary.estimate.abs())
+        .collect();
+    let rel_big: Vec<f64> = sw
+        .points
+        .iter()
+        .map(|p| 100.0 * p.summary.expanded_uncertainty / p.summary.estimate.abs())
+        .collect();
+    let (x0, x1) = (
+        xs.iter().copied().fold(f64::INFINITY, f64::min),
+        xs.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+    );
+    let ymax = rel_big.iter().copied().fold(0.0f64, f64::max) * 1.1;
+    let ymax = if ymax > 0.0 && ymax.is_finite() {
+        ymax
+    } else {
+        1.0
+    };
+    let unit = if q.shown_unit.symbol.is_empty() {
+        String::new()
+    } else {
+        format!(" / {}", q.shown_unit.symbol)
+    };
+    let mut chart = ChartBuilder::on(area)
+        .caption(
+            format!("Relative uncertainty of {} along {}", m.name, q.name),
+            ("sans-serif", 18),
+        )
+        .margin(12)
+        .x_label_area_size(50)
+        .y_label_area_size(70)
+        .build_cartesian_2d(x0..x1, 0.0..ymax)?;
+    chart
+        .configure_mesh()
+        .light_line_style(TRANSPARENT)
+        .x_desc(format!("{}{unit}", q.name))
+        .y_desc(format!("relative uncertainty of {} / %", m.name))
+        .label_style(("sans-serif", 12))
+        .draw()?;
+    chart
+        .draw_series(
+            LineSeries::new(
+                xs.iter().copied().zip(rel_big.iter().copied()),
+                LINE.stroke_width(2),
+            )
+            .point_size(3),
+        )?
+        .label(format!("expanded ({})", percent(f.coverage)))
+        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 16, y)], LINE.stroke_width(2)));
+    chart
+        .draw_series(
+            LineSeries::new(
+                xs.iter().copied().zip(rel_u.iter().copied()),
+                LINE2.stroke_width(2),
+            )
+            .point_size(3),
+        )?
+        .label("standard")
+        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 16, y)], LINE2.stroke_width(2)));
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperRight)
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .label_font(("sans-serif", 12))
+        .draw()?;
+    Ok(())
 }

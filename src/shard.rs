@@ -1,0 +1,303 @@
+//! Shards: one run spread over several machines. `radforce run FILE --shard K/N` makes only the
+//! chunks k with k mod N = K and writes a partial result; `radforce merge` combines the N
+//! partial results into the report one machine would have given, bit for bit.
+//!
+//! A partial result holds what is needed to merge exactly: the scenario text (the merge loads it
+//! again), every chunk summary of the shard (merged in global chunk order, as a single run does)
+//! and, per measurand, the shard's k smallest and k largest values with k = M - q of the whole
+//! run (the whole run's k smallest values are among the union of the shards' k smallest).
+//!
+//! File layout: the line `radforce-part 1`, an 8-byte little-endian length L, L bytes of JSON
+//! (the header, with the chunk summaries; JSON numbers round-trip f64 exactly), then the tails as
+//! little-endian f64: for each measurand its low tail then its high tail, of the lengths the
+//! header gives.
+
+use crate::analysis::MonteCarlo;
+use crate::analysis::intervals::{intervals_from_tails, merge_tails, q_index, tails};
+use crate::analysis::moments::{CoMoments, Moments};
+use crate::analysis::summary::from_parts;
+use crate::engine::{ChunkSummary, Samples, merge_chunks};
+use crate::error::{Error, InputError};
+use crate::scenario::Study;
+use serde_json::{Value, json};
+
+const MAGIC: &[u8] = b"radforce-part 1\n";
+
+/// A partial result read back.
+#[derive(Clone, Debug)]
+pub struct Part {
+    /// The scenario text.
+    pub scenario_text: String,
+    /// The scenario file as named in reports.
+    pub scenario_file: String,
+    /// Trials of the whole run.
+    pub trials: u64,
+    /// Seed.
+    pub seed: u64,
+    /// This shard, K.
+    pub shard: u64,
+    /// Of N shards.
+    pub shards: u64,
+    /// The chunk summaries of the shard.
+    pub chunks: Vec<ChunkSummary>,
+    /// Per measurand: (low tail, high tail).
+    pub tails: Vec<(Vec<f64>, Vec<f64>)>,
+}
+
+fn moments_json(m: &Moments) -> Value {
+    json!([m.count, m.mean, m.m2])
+}
+
+fn co_json(c: &CoMoments) -> Value {
+    json!([c.count, c.mean_x, c.mean_y, c.m2x, c.m2y, c.cxy])
+}
+
+/// The bytes of a shard's partial result.
+pub fn write_part(
+    study: &Study,
+    scenario_text: &str,
+    samples: &Samples,
+    shard: u64,
+    shards: u64,
+) -> Vec<u8> {
+    let k = study.trials as usize - q_index(study.trials as usize, study.coverage);
+    let tails: Vec<(Vec<f64>, Vec<f64>)> = samples
+        .measurands
+        .iter()
+        .map(|col| tails(col, k.min(col.len())))
+        .collect();
+    let chunks: Vec<Value> = samples
+        .chunks
+        .iter()
+        .map(|c| {
+            json!({
+                "index": c.index,
+                "moments": c.moments.iter().map(moments_json).collect::<Vec<_>>(),
+                "input_pairs": c.input_pairs.iter().map(co_json).collect::<Vec<_>>(),
+                "measurand_pairs": c.measurand_pairs.iter().map(co_json).collect::<Vec<_>>(),
+            })
+        })
+        .collect();
+    let header = json!({
+        "radforce_version": env!("CARGO_PKG_VERSION"),
+        "generator": crate::engine::generator_description(),
+        "scenario_file": study.file,
+        "scenario_text": scenario_text,
+        "trials": study.trials,
+        "seed": study.seed,
+        "coverage": study.coverage,
+        "shard": shard,
+        "shards": shards,
+        "chunks": chunks,
+        "tail_lengths": tails.iter().map(|(a, b)| json!([a.len(), b.len()])).collect::<Vec<_>>(),
+    });
+    let header = header.to_string().into_bytes();
+    let mut out = Vec::with_capacity(MAGIC.len() + 8 + header.len());
+    out.extend_from_slice(MAGIC);
+    out.extend_from_slice(&(header.len() as u64).to_le_bytes());
+    out.extend_from_slice(&header);
+    for (lo, hi) in &tails {
+        for x in lo.iter().chain(hi) {
+            out.extend_from_slice(&x.to_le_bytes());
+        }
+    }
+    out
+}
+
+fn bad(file: &str, message: impl Into<String>) -> Error {
+    InputError::file(file, message)
+        .with_example("radforce merge part-0.rfp part-1.rfp part-2.rfp")
+        .into()
+}
+
+fn num(v: &Value) -> Option<f64> {
+    v.as_f64()
+}
+
+fn read_moments(v: &Value) -> Option<Moments> {
+    let a = v.as_array()?;
+    Some(Moments {
+        count: a.first()?.as_u64()?,
+        mean: num(a.get(1)?)?,
+        m2: num(a.get(2)?)?,
+    })
+}
+
+fn read_co(v: &Value) -> Option<CoMoments> {
+    let a = v.as_array()?;
+    Some(CoMoments {
+        count: a.first()?.as_u64()?,
+        mean_x: num(a.get(1)?)?,
+        mean_y: num(a.get(2)?)?,
+        m2x: num(a.get(3)?)?,
+        m2y: num(a.get(4)?)?,
+        cxy: num(a.get(5)?)?,
+    })
+}
+
+/// Read a partial result; `file` names it in messages.
+pub fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
+    let broken = || bad(file, "is not a radforce partial result (or is damaged)");
+    let rest = bytes.strip_prefix(MAGIC).ok_or_else(|| {
+        bad(
+            file,
+            "is not a radforce partial result: it does not start with `radforce-part 1`",
+        )
+    })?;
+    if rest.len() < 8 {
+        return Err(broken());
+    }
+    let mut len = [0u8; 8];
+    len.copy_from_slice(&rest[..8]);
+    let len = u64::from_le_bytes(len) as usize;
+    let body = &rest[8..];
+    if body.len() < len {
+        return Err(broken());
+    }
+    let header: Value = serde_json::from_slice(&body[..len]).map_err(|_| broken())?;
+    let get_u64 = |k: &str| header[k].as_u64().ok_or_else(broken);
+    let chunks = header["chunks"]
+        .as_array()
+        .ok_or_else(broken)?
+        .iter()
+        .map(|c| {
+            Some(ChunkSummary {
+                index: c["index"].as_u64()?,
+                moments: c["moments"]
+                    .as_array()?
+                    .iter()
+                    .map(read_moments)
+                    .collect::<Option<_>>()?,
+                input_pairs: c["input_pairs"]
+                    .as_array()?
+                    .iter()
+                    .map(read_co)
+                    .collect::<Option<_>>()?,
+                measurand_pairs: c["measurand_pairs"]
+                    .as_array()?
+                    .iter()
+                    .map(read_co)
+                    .collect::<Option<_>>()?,
+            })
+        })
+        .collect::<Option<Vec<_>>>()
+        .ok_or_else(broken)?;
+    let lengths = header["tail_lengths"].as_array().ok_or_else(broken)?;
+    let mut data = &body[len..];
+    let mut tails = Vec::with_capacity(lengths.len());
+    let mut take = |n: usize| -> Option<Vec<f64>> {
+        if data.len() < 8 * n {
+            return None;
+        }
+        let (head, tail) = data.split_at(8 * n);
+        data = tail;
+        Some(
+            head.chunks_exact(8)
+                .map(|b| f64::from_le_bytes(b.try_into().unwrap_or([0; 8])))
+                .collect(),
+        )
+    };
+    for l in lengths {
+        let (a, b) = (
+            l[0].as_u64().ok_or_else(broken)? as usize,
+            l[1].as_u64().ok_or_else(broken)? as usize,
+        );
+        let lo = take(a).ok_or_else(broken)?;
+        let hi = take(b).ok_or_else(broken)?;
+        tails.push((lo, hi));
+    }
+    if !data.is_empty() {
+        return Err(broken());
+    }
+    Ok(Part {
+        scenario_text: header["scenario_text"]
+            .as_str()
+            .ok_or_else(broken)?
+            .to_string(),
+        scenario_file: header["scenario_file"]
+            .as_str()
+            .ok_or_else(broken)?
+            .to_string(),
+        trials: get_u64("trials")?,
+        seed: get_u64("seed")?,
+        shard: get_u64("shard")?,
+        shards: get_u64("shards")?,
+        chunks,
+        tails,
+    })
+}
+
+/// Check that the parts are the N shards of one run, load the study from the scenario text they
+/// carry, and combine them into the Monte Carlo result of the whole run.
+pub fn merge_parts(parts: &[(String, Part)]) -> Result<(Study, MonteCarlo), Error> {
+    let (first_file, first) = parts
+        .first()
+        .ok_or_else(|| bad("command line", "no partial results to merge"))?;
+    for (file, p) in parts {
+        if p.scenario_text != first.scenario_text
+            || p.seed != first.seed
+            || p.trials != first.trials
+            || p.shards != first.shards
+            || p.scenario_file != first.scenario_file
+        {
+            return Err(bad(
+                file,
+                format!(
+                    "is a shard of another run than {first_file} (scenario, seed, trials or number of shards differ)"
+                ),
+            ));
+        }
+    }
+    let n = first.shards;
+    let mut seen = vec![false; n as usize];
+    for (file, p) in parts {
+        if p.shard >= n || seen[p.shard as usize] {
+            return Err(bad(
+                file,
+                format!("shard {}/{n} is given twice or does not exist", p.shard),
+            ));
+        }
+        seen[p.shard as usize] = true;
+    }
+    if let Some(missing) = seen.iter().position(|s| !s) {
+        return Err(bad(
+            first_file,
+            format!("shard {missing}/{n} is missing; merge needs all {n}"),
+        ));
+    }
+    let mut study = crate::scenario::load_str(&first.scenario_text, &first.scenario_file)?;
+    study.seed = first.seed;
+    study.trials = first.trials;
+    study.adaptive = None;
+    let chunks: Vec<ChunkSummary> = parts
+        .iter()
+        .flat_map(|(_, p)| p.chunks.iter().cloned())
+        .collect();
+    let nm = study.model.measurands;
+    let (moments, input_pairs, measurand_pairs) =
+        merge_chunks(&chunks, nm, study.correlations.pairs.len());
+    let m = study.trials as usize;
+    let k = m - q_index(m, study.coverage);
+    let summaries = (0..nm)
+        .map(|i| {
+            let lows = parts.iter().map(|(_, p)| p.tails[i].0.clone()).collect();
+            let highs = parts.iter().map(|(_, p)| p.tails[i].1.clone()).collect();
+            let (lo, hi) = merge_tails(lows, highs, k);
+            let ci = intervals_from_tails(&lo, &hi, m, study.coverage);
+            from_parts(&moments[i], &ci)
+        })
+        .collect();
+    let shapes = vec![None; nm];
+    let input_shapes = vec![None; study.inputs.len()];
+    Ok((
+        study,
+        MonteCarlo {
+            trials: m as u64,
+            summaries,
+            measurand_pairs,
+            input_pairs,
+            shapes,
+            input_shapes,
+        },
+    ))
+}

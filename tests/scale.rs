@@ -1,0 +1,174 @@
+//! Beyond memory and beyond one machine: a run streamed in two passes under a small memory
+//! budget gives the results of the same run held in memory, and shards merged give the report
+//! of the single run byte for byte.
+
+mod common;
+use common::{radforce, scratch};
+use predicates::prelude::*;
+use serde_json::Value;
+
+fn json_run(args: &[&str]) -> Vec<u8> {
+    let out = radforce().args(args).output().unwrap();
+    assert!(
+        out.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    out.stdout
+}
+
+// The chunked streams are reproducible, so a second pass regenerates exactly the trials in the
+// tails: estimate, u and both intervals equal the in-memory run's bit for bit.
+#[test]
+fn a_streamed_run_equals_the_in_memory_run() {
+    for file in [
+        "data/torsion-vacuum-20w.toml",
+        "data/validation/jcgm101-9.3-mass.toml",
+    ] {
+        let memory = json_run(&["run", file, "--format", "json", "--trials", "400000"]);
+        let streamed = json_run(&[
+            "run",
+            file,
+            "--format",
+            "json",
+            "--trials",
+            "400000",
+            "--memory-budget",
+            "2MB",
+        ]);
+        let (a, b): (Value, Value) = (
+            serde_json::from_slice(&memory).unwrap(),
+            serde_json::from_slice(&streamed).unwrap(),
+        );
+        assert_eq!(a["measurands"], b["measurands"], "{file}");
+        assert_eq!(a["correlation"], b["correlation"], "{file}");
+        assert!(
+            b["warnings"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|w| w.as_str().unwrap().contains("two passes"))
+        );
+        assert!(
+            a["warnings"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .all(|w| !w.as_str().unwrap().contains("two passes"))
+        );
+    }
+    // A budget too small even for the tails is refused like bad input (exit 2), said plainly.
+    radforce()
+        .args([
+            "run",
+            "data/torsion-vacuum-20w.toml",
+            "--trials",
+            "400000",
+            "--memory-budget",
+            "100kB",
+        ])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("memory budget"));
+}
+
+// Shards 0/3, 1/3, 2/3 merged (in any order) equal the single run byte for byte.
+#[test]
+fn shards_merged_equal_the_single_run() {
+    let dir = scratch("shards");
+    for file in [
+        "data/torsion-vacuum-20w.toml",
+        "data/validation/jcgm101-9.2.4-dominant.toml",
+    ] {
+        let single = json_run(&["run", file, "--format", "json", "--trials", "250000"]);
+        let mut parts = Vec::new();
+        for k in 0..3 {
+            let part = dir.join(format!("part-{k}.rfp"));
+            radforce()
+                .args([
+                    "run",
+                    file,
+                    "--trials",
+                    "250000",
+                    "--shard",
+                    &format!("{k}/3"),
+                    "--output",
+                    part.to_str().unwrap(),
+                    "--force",
+                ])
+                .assert()
+                .success();
+            parts.push(part.to_str().unwrap().to_string());
+        }
+        let merged = json_run(&["merge", &parts[2], &parts[0], &parts[1], "--format", "json"]);
+        assert!(
+            single == merged,
+            "{file}: merged report differs from the single run"
+        );
+        // The text report too.
+        let single_text = json_run(&["run", file, "--trials", "250000"]);
+        let merged_text = json_run(&["merge", &parts[0], &parts[1], &parts[2]]);
+        assert!(single_text == merged_text, "{file}: text reports differ");
+    }
+}
+
+#[test]
+fn bad_shards_and_merges_are_refused() {
+    let dir = scratch("bad-shards");
+    let f = "data/validation/jcgm101-9.3-mass.toml";
+    radforce()
+        .args(["run", f, "--shard", "3/3", "--output", "x.rfp"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--shard"));
+    radforce()
+        .args(["run", f, "--shard", "0/2"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--output"));
+    let p0 = dir.join("p0.rfp");
+    let p1 = dir.join("p1.rfp");
+    let other = dir.join("other.rfp");
+    for (k, p, seed) in [(0, &p0, "1"), (1, &p1, "1"), (1, &other, "2")] {
+        radforce()
+            .args([
+                "run",
+                f,
+                "--trials",
+                "20000",
+                "--seed",
+                seed,
+                "--shard",
+                &format!("{k}/2"),
+                "--output",
+                p.to_str().unwrap(),
+            ])
+            .assert()
+            .success();
+    }
+    radforce()
+        .args(["merge", p0.to_str().unwrap()])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("shard 1/2 is missing"));
+    radforce()
+        .args(["merge", p0.to_str().unwrap(), p0.to_str().unwrap()])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("given twice"));
+    radforce()
+        .args(["merge", p0.to_str().unwrap(), other.to_str().unwrap()])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("another run"));
+    std::fs::write(dir.join("junk.rfp"), "not a part").unwrap();
+    radforce()
+        .args(["merge", dir.join("junk.rfp").to_str().unwrap()])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("not a radforce partial result"));
+    radforce()
+        .args(["merge", p0.to_str().unwrap(), p1.to_str().unwrap()])
+        .assert()
+        .success();
+}
