@@ -526,7 +526,7 @@ fn run_command(args: &RunArgs) -> Result<(), Error> {
     }
     run::check_memory(&study, &options)?;
     warn(&study, args.out.quiet);
-    let progress = Progress::start(args.out.quiet);
+    let progress = Progress::start(args.out.quiet, run::expected_trials(&study, &options));
     let result = engine::with_threads(args.study.threads, || run::sweep_study(&study, &options));
     progress.finish();
     let (findings, samples) = result??;
@@ -557,9 +557,12 @@ fn rank_command(args: &RankArgs) -> Result<(), Error> {
         },
     )?;
     warn(&study, args.out.quiet);
+    let progress = Progress::start(args.out.quiet, None);
     let findings = engine::with_threads(args.study.threads, || {
         run::rank_study(&study, &options, &rank)
-    })??;
+    });
+    progress.finish();
+    let findings = findings??;
     deliver(Report::Run(&findings), &args.out)
 }
 
@@ -580,9 +583,12 @@ fn compare_command(args: &CompareArgs) -> Result<(), Error> {
     for (_, s) in &designs {
         warn(s, args.out.quiet);
     }
+    let progress = Progress::start(args.out.quiet, None);
     let comparison = engine::with_threads(args.threads, || {
         run::compare_designs(&designs, &options, args.measurand.as_deref())
-    })??;
+    });
+    progress.finish();
+    let comparison = comparison??;
     deliver(Report::Compare(&comparison), &args.out)
 }
 
@@ -674,9 +680,12 @@ fn plan_command(args: &PlanArgs) -> Result<(), Error> {
     )?;
     run::check_memory(&study, &options)?;
     warn(&study, args.out.quiet);
+    let progress = Progress::start(args.out.quiet, None);
     let plan = engine::with_threads(args.study.threads, || {
         run::plan_study(&study, &options, spec, m)
-    })??;
+    });
+    progress.finish();
+    let plan = plan??;
     deliver(Report::Plan(&plan), &args.out)
 }
 
@@ -698,7 +707,7 @@ fn export_command(args: &ExportArgs) -> Result<(), Error> {
         ));
     }
     warn(&study, args.quiet);
-    let progress = Progress::start(args.quiet);
+    let progress = Progress::start(args.quiet, run::expected_trials(&study, &options));
     let (findings, samples) =
         engine::with_threads(args.study.threads, || run::run_study(&study, &options))??;
     progress.finish();
@@ -723,15 +732,16 @@ fn export_command(args: &ExportArgs) -> Result<(), Error> {
     Ok(())
 }
 
-/// A progress bar on stderr for runs that last more than about a second; hidden when stderr is
-/// not a terminal (indicatif's check) or with --quiet.
+/// A progress bar on stderr for runs that last more than about a second (a bar with the trials
+/// made and the time left when their number is known, else a spinner with the count); hidden
+/// when stderr is not a terminal (indicatif's check) or with --quiet.
 struct Progress {
     stop: std::sync::Arc<std::sync::atomic::AtomicBool>,
     handle: Option<std::thread::JoinHandle<()>>,
 }
 
 impl Progress {
-    fn start(quiet: bool) -> Progress {
+    fn start(quiet: bool, expected: Option<u64>) -> Progress {
         let stop = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
         let handle = (!quiet).then(|| {
             let stop = stop.clone();
@@ -742,16 +752,34 @@ impl Progress {
                 while !stop.load(std::sync::atomic::Ordering::Relaxed) {
                     std::thread::sleep(std::time::Duration::from_millis(100));
                     if bar.is_none() && start.elapsed() > std::time::Duration::from_secs(1) {
-                        let b = indicatif::ProgressBar::new_spinner();
+                        let (b, template) = match expected {
+                            Some(total) => (
+                                indicatif::ProgressBar::new(total),
+                                "{elapsed} [{bar:30}] {msg} ({eta} left)",
+                            ),
+                            None => (
+                                indicatif::ProgressBar::new_spinner(),
+                                "{spinner} {elapsed} {msg}",
+                            ),
+                        };
                         b.set_style(
-                            indicatif::ProgressStyle::with_template("{spinner} {elapsed} {msg}")
+                            indicatif::ProgressStyle::with_template(template)
+                                .map(|s| s.progress_chars("=> "))
                                 .unwrap_or_else(|_| indicatif::ProgressStyle::default_spinner()),
                         );
                         bar = Some(b);
                     }
                     if let Some(b) = &bar {
                         let done = engine::progress::trials_done() - base;
-                        b.set_message(format!("{} trials", report::text::grouped(done)));
+                        b.set_position(done);
+                        b.set_message(match expected {
+                            Some(total) => format!(
+                                "{} of {} trials",
+                                report::text::grouped(done.min(total)),
+                                report::text::grouped(total)
+                            ),
+                            None => format!("{} trials", report::text::grouped(done)),
+                        });
                         b.tick();
                     }
                 }

@@ -15,7 +15,9 @@ use crate::scenario::{Law, Study};
 pub struct RunOptions {
     /// Most bytes the samples may take.
     pub memory_budget: u64,
-    /// Keep the input columns.
+    /// Keep the input columns, and so every value in memory (for sensitivity, figures of the
+    /// distributions, the samples file and exports). Without them a long run keeps only the
+    /// tails of its measurands' values (`engine::streaming`).
     pub keep_inputs: bool,
 }
 
@@ -28,6 +30,24 @@ pub fn fits_in_memory(study: &Study, options: &RunOptions) -> bool {
             0
         };
     engine::memory::sample_bytes(study.trials, columns, study.coverage) <= options.memory_budget
+}
+
+/// The trials `sweep_study` will make, for a progress bar: M per pass (two passes when the
+/// samples do not fit the budget), for the main run and each sweep point; `None` for an
+/// adaptive run, whose length is not known in advance.
+pub fn expected_trials(study: &Study, options: &RunOptions) -> Option<u64> {
+    if study.adaptive.is_some() {
+        return None;
+    }
+    let passes = |keep_inputs: bool| {
+        let o = RunOptions {
+            keep_inputs,
+            ..*options
+        };
+        if fits_in_memory(study, &o) { 1 } else { 2 }
+    };
+    let points = study.sweep.as_ref().map_or(0, |s| s.values.len() as u64);
+    Some(study.trials * (passes(options.keep_inputs) + points * passes(false)))
 }
 
 /// Refuse a run that cannot be made within the memory budget: one that must keep its input
@@ -184,8 +204,10 @@ pub fn rank_study(
 
 /// Run a study on the current rayon pool and summarise it.
 ///
-/// A fixed run whose values do not fit the memory budget is made in two passes over the same
-/// streams (`engine::streaming`), with the same results; it then returns no samples.
+/// A fixed run without input columns of 2^19 trials or more, or one whose values do not fit
+/// the memory budget, keeps only the tails of its values (`engine::streaming`: one pass, or
+/// two over the same streams beyond the budget), with the same results; it then returns no
+/// samples.
 pub fn run_study(
     study: &Study,
     options: &RunOptions,
@@ -197,14 +219,31 @@ pub fn run_study(
                 keep_inputs: options.keep_inputs,
                 ..Plan::new(study.trials, study.seed)
             };
-            if !fits_in_memory(study, options) {
-                let mc = engine::streaming::simulate_streamed(study, plan, options.memory_budget)?;
-                let mut findings = analysis::findings_from(study, &mc, None);
-                findings.warnings.push(format!(
-                    "the values of {} trials do not fit the memory budget of {}: the run was made in two passes over the same random streams (the results are those of a run held in memory)",
-                    study.trials,
-                    engine::memory::format_bytes(options.memory_budget)
-                ));
+            // Without input columns, a long run keeps only the tails of its values (one pass,
+            // or two beyond the memory budget), with the same results as holding them all.
+            let long = study.trials >= 2 * engine::streaming::PILOT;
+            let fits = fits_in_memory(study, options);
+            if !options.keep_inputs && (long || !fits) {
+                let run = engine::streaming::simulate_tails(study, plan, options.memory_budget)?;
+                let mut findings = analysis::findings_from(study, &run.monte_carlo, None);
+                if run.passes > 1 {
+                    let why = if fits {
+                        format!(
+                            "a tail threshold set by the first {} trials proved too tight",
+                            engine::streaming::PILOT
+                        )
+                    } else {
+                        format!(
+                            "the values of {} trials do not fit the memory budget of {}",
+                            study.trials,
+                            engine::memory::format_bytes(options.memory_budget)
+                        )
+                    };
+                    findings.warnings.push(format!(
+                        "{why}: the run was made in {} passes over the same random streams (the results are those of a run held in memory)",
+                        run.passes
+                    ));
+                }
                 return Ok((findings, None));
             }
             let samples = engine::simulate(study, plan)?;

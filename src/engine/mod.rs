@@ -14,6 +14,7 @@ pub mod sampling;
 pub mod sensitivity;
 pub mod stream;
 pub mod streaming;
+pub mod tails;
 
 use crate::analysis::moments::{CoMoments, Moments, joint_moments};
 use crate::error::RunError;
@@ -310,15 +311,18 @@ pub fn stream_chunks<T: Send>(
 ) -> Result<Vec<(ChunkSummary, T)>, RunError> {
     let n_meas = study.model.measurands;
     let steps = sampling::fill_steps(study);
+    // Each worker reuses its chunk buffers (no allocation, no fresh pages per chunk).
     let results: Vec<Result<(ChunkSummary, T), Fault>> = chunks
         .par_iter()
-        .map(|&(k, len)| {
-            let mut buffers: Vec<Vec<f64>> = (0..n_meas).map(|_| vec![0.0; len]).collect();
-            let mut outs: Vec<&mut [f64]> = buffers.iter_mut().map(Vec::as_mut_slice).collect();
-            let summary = run_chunk(study, &steps, plan, k, &mut outs, None)?;
-            let views: Vec<&[f64]> = buffers.iter().map(Vec::as_slice).collect();
-            Ok((summary, sink(k, &views)))
-        })
+        .map_init(
+            || vec![vec![0.0; CHUNK_TRIALS]; n_meas],
+            |buffers, &(k, len)| {
+                let mut outs: Vec<&mut [f64]> = buffers.iter_mut().map(|b| &mut b[..len]).collect();
+                let summary = run_chunk(study, &steps, plan, k, &mut outs, None)?;
+                let views: Vec<&[f64]> = buffers.iter().map(|b| &b[..len]).collect();
+                Ok((summary, sink(k, &views)))
+            },
+        )
         .collect();
     results
         .into_iter()

@@ -1,28 +1,40 @@
-//! Runs too large for memory: two passes over the same reproducible streams, with the same
-//! estimate, u and coverage intervals as a run held in memory.
+//! Runs that do not hold their values: the same estimate, u and coverage intervals as a run
+//! held in memory, from the chunk summaries and the two tails of each measurand
+//! ([`super::tails`]).
 //!
-//! Pass 1 makes every chunk, keeps its summary (moments merged in chunk order, exactly as in
-//! memory) and an evenly spaced subsample of its values. From the subsample, thresholds below
-//! and above which the M - q smallest and largest values must lie (with a margin of six binomial
-//! standard deviations). Pass 2 makes every chunk again (the streams are reproducible) and keeps
-//! only the values beyond the thresholds; their k smallest and k largest, sorted, give both
-//! intervals exactly (`analysis::intervals::intervals_from_tails`). A threshold found too tight
-//! is widened and its measurand passed again. Measurands whose tails do not fit the memory
-//! budget together are passed one at a time.
+//! One pass (the usual case for plain runs of 2^20 trials and more): the first chunks, a pilot
+//! of 2^18 trials, are made and held; their sorted values set the thresholds of each
+//! measurand's tails (with a margin of six binomial standard deviations); every other chunk is
+//! made once and offers only its values beyond the thresholds. This never touches the M values
+//! as a whole, so it is faster than holding them and needs well under a byte per trial per
+//! measurand. Should a threshold prove too tight (a chance of the order of 1e-9) or the tails
+//! not fit the memory budget, the run is made again in two passes.
+//!
+//! Two passes (runs beyond the memory budget): pass 1 makes every chunk, keeps its summary
+//! (moments merged in chunk order, exactly as in memory) and an evenly spaced subsample of its
+//! values, which sets the thresholds; pass 2 makes every chunk again (the streams are
+//! reproducible) and keeps only the values beyond them. A threshold found too tight is widened
+//! and its measurand passed again. Measurands whose tails do not fit the memory budget together
+//! are passed one at a time.
 
-use super::{Plan, merge_chunks, stream_chunks};
+use super::tails::{TailCollector, thresholds};
+use super::{ChunkSummary, Plan, merge_chunks, stream_chunks};
 use crate::analysis::MonteCarlo;
 use crate::analysis::intervals::{CoverageIntervals, intervals_from_tails, q_index};
 use crate::analysis::summary::{Summary, from_parts};
 use crate::error::RunError;
 use crate::scenario::Study;
-use std::sync::Mutex;
+use rayon::prelude::*;
 
-/// The lower and upper tail values of one measurand, gathered under locks across chunks.
-type TailBuffers = (Mutex<Vec<f64>>, Mutex<Vec<f64>>);
-
-/// Subsample size per measurand aimed at in pass 1.
+/// Subsample size per measurand aimed at in pass 1 of a two-pass run (fewer when a quarter of
+/// the budget cannot hold that many for every measurand, never fewer than 2^12).
 const SUBSAMPLE: u64 = 1 << 20;
+
+/// Trials of the pilot of a one-pass run.
+pub const PILOT: u64 = 1 << 16;
+
+/// Margin of the thresholds, in binomial standard deviations of the sample's rank.
+const SIGMAS: f64 = 6.0;
 
 /// Memory set aside from the budget (at most a quarter of it) for what the run holds besides
 /// the tails.
@@ -36,14 +48,159 @@ fn budget_error(trials: u64, needed: u64, budget: u64) -> RunError {
     }
 }
 
-/// Run `plan` without holding its values, within `budget` bytes for the tails.
-pub fn simulate_streamed(study: &Study, plan: Plan, budget: u64) -> Result<MonteCarlo, RunError> {
+/// Bytes the tails of one measurand are expected to take: both tails, with the margin of a
+/// threshold set from a sample of `n` values, plus a tenth for growth.
+fn expected_tail_bytes(n: usize, k: usize, m: u64, sigmas: f64) -> u64 {
+    let frac = k as f64 / m as f64;
+    let margin = sigmas.max(0.0) * (n as f64 * frac * (1.0 - frac)).sqrt() + 16.0;
+    let kept = 2.0 * (frac + margin / n as f64) * m as f64;
+    (kept * 8.0 * 1.1) as u64
+}
+
+/// The result of a run made without holding its values.
+#[derive(Clone, Debug)]
+pub struct TailRun {
+    /// What the findings need.
+    pub monte_carlo: MonteCarlo,
+    /// Passes made over the random streams: 1, or 2 and more when the values had to be made
+    /// again (one more for each group of measurands whose tails fit the budget together).
+    pub passes: u32,
+}
+
+/// Run `plan` without holding its values: in one pass when the tails fit `budget`, else (or
+/// should a pilot threshold prove too tight) in two.
+pub fn simulate_tails(study: &Study, plan: Plan, budget: u64) -> Result<TailRun, RunError> {
+    simulate_tails_at(study, plan, budget, SIGMAS)
+}
+
+fn simulate_tails_at(
+    study: &Study,
+    plan: Plan,
+    budget: u64,
+    sigmas: f64,
+) -> Result<TailRun, RunError> {
+    if let Some(mc) = one_pass(study, plan, budget, sigmas)? {
+        return Ok(TailRun {
+            monte_carlo: mc,
+            passes: 1,
+        });
+    }
+    let (monte_carlo, passes) = simulate_streamed(study, plan, budget)?;
+    Ok(TailRun {
+        monte_carlo,
+        passes,
+    })
+}
+
+fn finish(
+    study: &Study,
+    m: u64,
+    summaries: &[ChunkSummary],
+    intervals: Vec<CoverageIntervals>,
+) -> MonteCarlo {
+    let nm = study.model.measurands;
+    let (moments, input_pairs, measurand_pairs) =
+        merge_chunks(summaries, nm, study.correlations.pairs.len());
+    let summaries: Vec<Summary> = moments
+        .iter()
+        .zip(&intervals)
+        .map(|(mo, ci)| from_parts(mo, ci))
+        .collect();
+    MonteCarlo {
+        trials: m,
+        summaries,
+        measurand_pairs,
+        input_pairs,
+        shapes: vec![None; nm],
+        input_shapes: vec![None; study.inputs.len()],
+    }
+}
+
+/// One pass with thresholds from a pilot at `sigmas`; `None` when the run needs two passes
+/// (too few trials for a pilot, tails beyond the budget, or a threshold too tight).
+pub fn one_pass(
+    study: &Study,
+    plan: Plan,
+    budget: u64,
+    sigmas: f64,
+) -> Result<Option<MonteCarlo>, RunError> {
     let chunks = plan.chunks();
     let m: u64 = chunks.iter().map(|c| c.1 as u64).sum();
     let nm = study.model.measurands;
     let p = study.coverage;
     let k = (m - q_index(m as usize, p) as u64) as usize;
-    let step = (m / SUBSAMPLE).max(1) as usize;
+    let pilot_chunks = chunks
+        .iter()
+        .scan(0u64, |made, c| {
+            let before = *made;
+            *made += c.1 as u64;
+            (before < PILOT).then_some(())
+        })
+        .count();
+    if pilot_chunks == chunks.len() {
+        return Ok(None);
+    }
+    let (pilot, rest) = chunks.split_at(pilot_chunks);
+    let made = stream_chunks(study, plan, pilot, &|_, cols: &[&[f64]]| {
+        cols.iter().map(|c| c.to_vec()).collect::<Vec<Vec<f64>>>()
+    })?;
+    let mut samples: Vec<Vec<f64>> = vec![Vec::new(); nm];
+    let mut summaries: Vec<ChunkSummary> = Vec::with_capacity(chunks.len());
+    for (summary, cols) in made {
+        summaries.push(summary);
+        for (all, c) in samples.iter_mut().zip(cols) {
+            all.extend(c);
+        }
+    }
+    let n = samples[0].len();
+    let usable = budget - OVERHEAD.min(budget / 4);
+    // At the peak, the pilot's values and every measurand's tails are held together.
+    let need = nm as u64 * (expected_tail_bytes(n, k, m, sigmas) + 8 * n as u64);
+    if need > usable {
+        return Ok(None);
+    }
+    let capacity = (expected_tail_bytes(n, k, m, sigmas) / 16) as usize;
+    let collectors: Vec<TailCollector> = samples
+        .par_iter_mut()
+        .map(|s| {
+            let (lo, hi) = thresholds(s, k, m as usize, sigmas);
+            let c = TailCollector::new(lo, hi, capacity);
+            c.offer(s);
+            c
+        })
+        .collect();
+    drop(samples);
+    let made = stream_chunks(study, plan, rest, &|_, cols: &[&[f64]]| {
+        for (c, col) in collectors.iter().zip(cols) {
+            c.offer(col);
+        }
+    })?;
+    summaries.extend(made.into_iter().map(|(s, ())| s));
+    // One measurand after the other: each sort has the whole pool.
+    let intervals: Option<Vec<CoverageIntervals>> = collectors
+        .into_iter()
+        .map(|c| {
+            c.finish(k)
+                .map(|(lo, hi)| intervals_from_tails(&lo, &hi, m as usize, p))
+        })
+        .collect();
+    Ok(intervals.map(|ci| finish(study, m, &summaries, ci)))
+}
+
+/// Run `plan` in two passes (or more, when the measurands' tails must be collected in groups),
+/// within `budget` bytes in all; returns the passes made.
+pub fn simulate_streamed(
+    study: &Study,
+    plan: Plan,
+    budget: u64,
+) -> Result<(MonteCarlo, u32), RunError> {
+    let chunks = plan.chunks();
+    let m: u64 = chunks.iter().map(|c| c.1 as u64).sum();
+    let nm = study.model.measurands;
+    let p = study.coverage;
+    let k = (m - q_index(m as usize, p) as u64) as usize;
+    let subsample = (budget / 4 / (8 * nm as u64)).clamp(1 << 12, SUBSAMPLE);
+    let step = (m / subsample).max(1) as usize;
 
     // Pass 1: summaries and subsamples.
     let first = stream_chunks(study, plan, &chunks, &|_, cols: &[&[f64]]| {
@@ -51,33 +208,16 @@ pub fn simulate_streamed(study: &Study, plan: Plan, budget: u64) -> Result<Monte
             .map(|c| c.iter().step_by(step).copied().collect::<Vec<f64>>())
             .collect::<Vec<_>>()
     })?;
-    let summaries: Vec<_> = first.iter().map(|(s, _)| s.clone()).collect();
-    let (moments, input_pairs, measurand_pairs) =
-        merge_chunks(&summaries, nm, study.correlations.pairs.len());
+    let mut summaries = Vec::with_capacity(first.len());
     let mut subsamples: Vec<Vec<f64>> = vec![Vec::new(); nm];
-    for (_, parts) in first {
+    for (s, parts) in first {
+        summaries.push(s);
         for (all, part) in subsamples.iter_mut().zip(parts) {
             all.extend(part);
         }
     }
-    for s in &mut subsamples {
-        s.sort_unstable_by(f64::total_cmp);
-    }
 
-    // Thresholds per measurand at a margin (in subsample ranks).
-    let frac = k as f64 / m as f64;
-    let thresholds = |sub: &[f64], margin: f64| -> (f64, f64) {
-        let n = sub.len();
-        let idx = ((frac * n as f64 + margin).ceil() as usize).min(n - 1);
-        (sub[idx], sub[n - 1 - idx])
-    };
-    let base_margin = |n: usize| 6.0 * (n as f64 * frac * (1.0 - frac)).sqrt() + 16.0;
-    let mut margins: Vec<f64> = subsamples.iter().map(|s| base_margin(s.len())).collect();
-    // Expected values kept per measurand: both tails with their margins.
-    let expected_bytes = |n: usize, margin: f64| -> u64 {
-        let kept = 2.0 * (frac + margin / n as f64) * m as f64;
-        (kept * 8.0 * 1.1) as u64
-    };
+    let mut sigmas = vec![SIGMAS; nm];
     // The intervals of each measurand, found as soon as its tails are in (the tails are then
     // dropped, so only one group's tails are ever held).
     let mut intervals: Vec<Option<CoverageIntervals>> = vec![None; nm];
@@ -85,12 +225,14 @@ pub fn simulate_streamed(study: &Study, plan: Plan, budget: u64) -> Result<Monte
     let whole_budget = budget;
     let budget = budget - OVERHEAD.min(budget / 4);
     let mut pending: Vec<usize> = (0..nm).collect();
+    let mut passes = 1;
     while !pending.is_empty() {
+        passes += 1;
         // The next group of measurands whose tails fit the budget together.
         let mut group = Vec::new();
         let mut used = 0u64;
         for &i in &pending {
-            let need = expected_bytes(subsamples[i].len(), margins[i]);
+            let need = expected_tail_bytes(subsamples[i].len(), k, m, sigmas[i]);
             if need > budget {
                 // Report the whole need, the tails and the reserve beside them.
                 return Err(budget_error(
@@ -104,79 +246,94 @@ pub fn simulate_streamed(study: &Study, plan: Plan, budget: u64) -> Result<Monte
                 group.push(i);
             }
         }
-        let limits: Vec<(f64, f64)> = group
-            .iter()
-            .map(|&i| thresholds(&subsamples[i], margins[i]))
-            .collect();
-        // Shared buffers, reserved to the expected size: each chunk appends its values under a
-        // lock (the order of appends varies, the sorted tails do not), so the tails are held
-        // once, not once per chunk and again when joined.
-        let buffers: Vec<TailBuffers> = group
+        let collectors: Vec<TailCollector> = group
             .iter()
             .map(|&i| {
-                let cap = (expected_bytes(subsamples[i].len(), margins[i]) / 16) as usize;
-                (
-                    Mutex::new(Vec::with_capacity(cap)),
-                    Mutex::new(Vec::with_capacity(cap)),
-                )
+                let (lo, hi) = thresholds(&mut subsamples[i].clone(), k, m as usize, sigmas[i]);
+                let cap = (expected_tail_bytes(subsamples[i].len(), k, m, sigmas[i]) / 16) as usize;
+                TailCollector::new(lo, hi, cap)
             })
             .collect();
         stream_chunks(study, plan, &chunks, &|_, cols: &[&[f64]]| {
-            for ((&i, &(lo_t, hi_t)), (lo_buf, hi_buf)) in group.iter().zip(&limits).zip(&buffers) {
-                let (mut lo, mut hi) = (Vec::new(), Vec::new());
-                for &x in cols[i] {
-                    if x <= lo_t {
-                        lo.push(x);
-                    } else if x >= hi_t {
-                        hi.push(x);
-                    }
-                }
-                lo_buf
-                    .lock()
-                    .unwrap_or_else(|e| e.into_inner())
-                    .extend_from_slice(&lo);
-                hi_buf
-                    .lock()
-                    .unwrap_or_else(|e| e.into_inner())
-                    .extend_from_slice(&hi);
+            for (&i, c) in group.iter().zip(&collectors) {
+                c.offer(cols[i]);
             }
         })?;
-        let collected: Vec<(Vec<f64>, Vec<f64>)> = buffers
-            .into_iter()
-            .map(|(a, b)| {
-                (
-                    a.into_inner().unwrap_or_else(|e| e.into_inner()),
-                    b.into_inner().unwrap_or_else(|e| e.into_inner()),
-                )
-            })
-            .collect();
-        for (g, (mut lo, mut hi)) in group.iter().zip(collected) {
-            if lo.len() >= k && hi.len() >= k {
-                lo.sort_unstable_by(f64::total_cmp);
-                lo.truncate(k);
-                hi.sort_unstable_by(f64::total_cmp);
-                let cut = hi.len() - k;
-                hi.drain(..cut);
-                intervals[*g] = Some(intervals_from_tails(&lo, &hi, m as usize, p));
-                pending.retain(|x| x != g);
-            } else {
+        for (&g, c) in group.iter().zip(collectors) {
+            match c.finish(k) {
+                Some((lo, hi)) => {
+                    intervals[g] = Some(intervals_from_tails(&lo, &hi, m as usize, p));
+                    pending.retain(|&x| x != g);
+                }
                 // Too tight: widen and pass this measurand again.
-                margins[*g] *= 4.0;
+                None => sigmas[g] = sigmas[g] * 2.0 + 6.0,
             }
         }
     }
-    let summaries: Vec<Summary> = (0..nm)
-        .map(|i| {
-            let ci = intervals[i].expect("every measurand's tails are collected");
-            from_parts(&moments[i], &ci)
-        })
-        .collect();
-    Ok(MonteCarlo {
-        trials: m,
-        summaries,
-        measurand_pairs,
-        input_pairs,
-        shapes: vec![None; nm],
-        input_shapes: vec![None; study.inputs.len()],
-    })
+    let intervals = intervals.into_iter().flatten().collect();
+    Ok((finish(study, m, &summaries, intervals), passes))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn demo() -> Study {
+        crate::scenario::load_file(std::path::Path::new(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/data/torsion-vacuum-20w.toml"
+        )))
+        .expect("the demo scenario loads")
+    }
+
+    // One pass, two passes and the values held in memory give the same summaries, bit for bit.
+    #[test]
+    fn one_pass_two_passes_and_memory_agree() {
+        let study = demo();
+        let plan = Plan::new(PILOT + 100_003, 11);
+        let samples = crate::engine::simulate(&study, plan).expect("runs");
+        let held = MonteCarlo::from_samples(&study, &samples);
+        let one = one_pass(&study, plan, 1 << 30, SIGMAS)
+            .expect("runs")
+            .expect("one pass suffices at six sigma");
+        let (two, passes) = simulate_streamed(&study, plan, 1 << 30).expect("runs");
+        assert_eq!(passes, 2, "three measurands' tails fit 1 GiB together");
+        assert_eq!(one.summaries, held.summaries);
+        assert_eq!(two.summaries, held.summaries);
+        assert_eq!(one.measurand_pairs, held.measurand_pairs);
+    }
+
+    // Thresholds set well inside the tails are found too tight, and the run falls back to two
+    // passes with the same result.
+    #[test]
+    fn a_pilot_threshold_too_tight_falls_back() {
+        let study = demo();
+        let plan = Plan::new(PILOT + 50_000, 5);
+        assert!(
+            one_pass(&study, plan, 1 << 30, -40.0)
+                .expect("runs")
+                .is_none()
+        );
+        let held = MonteCarlo::from_samples(
+            &study,
+            &crate::engine::simulate(&study, plan).expect("runs"),
+        );
+        let run = simulate_tails_at(&study, plan, 1 << 30, -40.0).expect("runs");
+        assert_eq!(run.passes, 2);
+        assert_eq!(run.monte_carlo.summaries, held.summaries);
+        let run = simulate_tails(&study, plan, 1 << 30).expect("runs");
+        assert_eq!(run.passes, 1);
+        assert_eq!(run.monte_carlo.summaries, held.summaries);
+    }
+
+    // Too few trials for a pilot: no one-pass run.
+    #[test]
+    fn short_runs_have_no_pilot() {
+        let study = demo();
+        assert!(
+            one_pass(&study, Plan::new(PILOT, 5), 1 << 30, SIGMAS)
+                .expect("runs")
+                .is_none()
+        );
+    }
 }
