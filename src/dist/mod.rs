@@ -159,12 +159,16 @@ impl Distribution {
 
     /// Fill `out` with independent draws, in order. One match per block; the family's sampler
     /// is inlined in the loop.
-    pub fn fill<R: Rng + ?Sized>(&self, rng: &mut R, out: &mut [f64]) {
+    pub fn fill<R: Rng + Clone>(&self, rng: &mut R, out: &mut [f64]) {
+        // Drawn from a local copy of the generator, written back after: the same stream, with
+        // the generator's state kept in registers through the loop.
+        let mut local = rng.clone();
         dispatch!(self, d => {
             for x in out.iter_mut() {
-                *x = d.sample(rng);
+                *x = d.sample(&mut local);
             }
-        })
+        });
+        *rng = local;
     }
 
     /// One draw.

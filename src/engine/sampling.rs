@@ -43,7 +43,7 @@ pub fn fill_steps(study: &Study) -> Vec<FillStep> {
 }
 
 /// Fill the input columns of a block (`work[i * stride ..][.. n]` for input i).
-pub fn fill_inputs<R: Rng + ?Sized>(
+pub fn fill_inputs<R: Rng + Clone>(
     study: &Study,
     steps: &[FillStep],
     rng: &mut R,

@@ -48,12 +48,15 @@ impl TailCollector {
                 below.resize(values.len(), 0.0);
                 above.resize(values.len(), 0.0);
             }
-            // Branch-free compaction: every value is written, and the write position moves on
-            // only for a value to hold (about one in ten, at random, so a branch would
-            // mispredict).
+            // Values at or beyond a threshold (about one in ten) are compacted without branches:
+            // each is written, and the write position moves on only for a value to hold.
             let (mut nb, mut na) = (0usize, 0usize);
             let (mut at_low, mut at_high) = (0u64, 0u64);
             for &x in values {
+                // Most values lie strictly between the thresholds.
+                if x > lt && x < ht {
+                    continue;
+                }
                 let bits = x.to_bits();
                 below[nb] = x;
                 nb += usize::from(x <= lt && bits != lt_bits);
