@@ -2,8 +2,8 @@
 //! held in memory, from the chunk summaries and the two tails of each measurand
 //! ([`super::tails`]).
 //!
-//! One pass (the usual case for plain runs of 2^20 trials and more): the first chunks, a pilot
-//! of 2^18 trials, are made and held; their sorted values set the thresholds of each
+//! One pass (the usual case for plain runs of 2^17 trials and more): the first chunks, a pilot
+//! of 2^16 trials, are made and held; their sorted values set the thresholds of each
 //! measurand's tails (with a margin of six binomial standard deviations); every other chunk is
 //! made once and offers only its values beyond the thresholds. This never touches the M values
 //! as a whole, so it is faster than holding them and needs well under a byte per trial per
@@ -176,9 +176,10 @@ pub fn one_pass(
         }
     })?;
     summaries.extend(made.into_iter().map(|(s, ())| s));
-    // One measurand after the other: each sort has the whole pool.
+    // Every measurand's two tails sorted at once (the result of each depends on its own values
+    // only, and the list keeps measurand order).
     let intervals: Option<Vec<CoverageIntervals>> = collectors
-        .into_iter()
+        .into_par_iter()
         .map(|c| {
             c.finish(k)
                 .map(|(lo, hi)| intervals_from_tails(&lo, &hi, m as usize, p))

@@ -8,7 +8,7 @@
 //! their values, and however many values tie at a threshold (a measurand that is constant
 //! costs two counters, not M values).
 
-use crate::analysis::intervals::par_sort_finite;
+use crate::analysis::intervals::sort_finite;
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicU64, Ordering};
 
@@ -92,12 +92,11 @@ impl TailCollector {
             return None;
         }
         let (lt, ht) = (self.low_threshold, self.high_threshold);
-        // The lists hold little more than k values (the margin), so they are sorted whole, each
-        // on the whole pool.
-        par_sort_finite(&mut low);
+        // The lists hold little more than k values (the margin), so they are sorted whole, the
+        // two at once.
+        rayon::join(|| sort_finite(&mut low), || sort_finite(&mut high));
         low.truncate(k);
         let low = with_ties(low, lt, at_low, ..k);
-        par_sort_finite(&mut high);
         high.drain(..high.len().saturating_sub(k));
         let n = high.len() + at_high;
         let high = with_ties(high, ht, at_high, n - k..);
