@@ -10,6 +10,7 @@ pub mod moments;
 pub mod planning;
 pub mod sensitivity;
 pub mod summary;
+pub mod tail_buckets;
 pub mod validation;
 
 use crate::engine::adaptive::AdaptiveRun;

@@ -20,8 +20,9 @@
 use super::tails::{TailCollector, thresholds};
 use super::{ChunkSummary, Plan, merge_chunks, stream_chunks};
 use crate::analysis::MonteCarlo;
-use crate::analysis::intervals::{CoverageIntervals, intervals_from_tails, q_index};
+use crate::analysis::intervals::{CoverageIntervals, q_index};
 use crate::analysis::summary::{Summary, from_parts};
+use crate::analysis::tail_buckets::intervals_from_unsorted_tails;
 use crate::error::RunError;
 use crate::scenario::Study;
 use rayon::prelude::*;
@@ -176,13 +177,13 @@ pub fn one_pass(
         }
     })?;
     summaries.extend(made.into_iter().map(|(s, ())| s));
-    // Every measurand's two tails sorted at once (the result of each depends on its own values
-    // only, and the list keeps measurand order).
+    // Every measurand at once (the result of each depends on its own values only, and the list
+    // keeps measurand order).
     let intervals: Option<Vec<CoverageIntervals>> = collectors
         .into_par_iter()
         .map(|c| {
-            c.finish(k)
-                .map(|(lo, hi)| intervals_from_tails(&lo, &hi, m as usize, p))
+            c.finish_unsorted(k)
+                .map(|(lo, hi)| intervals_from_unsorted_tails(&lo, &hi, m as usize, p))
         })
         .collect();
     Ok(intervals.map(|ci| finish(study, m, &summaries, ci)))
@@ -261,9 +262,9 @@ pub fn simulate_streamed(
             }
         })?;
         for (&g, c) in group.iter().zip(collectors) {
-            match c.finish(k) {
+            match c.finish_unsorted(k) {
                 Some((lo, hi)) => {
-                    intervals[g] = Some(intervals_from_tails(&lo, &hi, m as usize, p));
+                    intervals[g] = Some(intervals_from_unsorted_tails(&lo, &hi, m as usize, p));
                     pending.retain(|&x| x != g);
                 }
                 // Too tight: widen and pass this measurand again.

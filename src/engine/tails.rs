@@ -84,6 +84,19 @@ impl TailCollector {
     /// The k smallest and the k largest values offered, each sorted ascending; `None` when a
     /// threshold was too tight (fewer than k values at or beyond it).
     pub fn finish(self, k: usize) -> Option<(Vec<f64>, Vec<f64>)> {
+        let (mut low, mut high) = self.finish_unsorted(k)?;
+        rayon::join(|| sort_finite(&mut low), || sort_finite(&mut high));
+        low.truncate(k);
+        let high = high.split_off(high.len() - k);
+        Some((low, high))
+    }
+
+    /// Two unsorted lists: one whose k smallest values are the k smallest offered (the others
+    /// larger), one whose k largest are the k largest offered, for
+    /// [`intervals_from_unsorted_tails`](crate::analysis::tail_buckets::intervals_from_unsorted_tails);
+    /// `None` when a threshold was too tight. The values counted at a threshold are put in as
+    /// copies of it, at most k of them (no more can be among the k).
+    pub fn finish_unsorted(self, k: usize) -> Option<(Vec<f64>, Vec<f64>)> {
         let at_low = self.at_low.into_inner() as usize;
         let at_high = self.at_high.into_inner() as usize;
         let mut low = self.below.into_inner().unwrap_or_else(|e| e.into_inner());
@@ -91,33 +104,10 @@ impl TailCollector {
         if low.len() + at_low < k || high.len() + at_high < k {
             return None;
         }
-        let (lt, ht) = (self.low_threshold, self.high_threshold);
-        // The lists hold little more than k values (the margin), so they are sorted whole, the
-        // two at once.
-        rayon::join(|| sort_finite(&mut low), || sort_finite(&mut high));
-        low.truncate(k);
-        let low = with_ties(low, lt, at_low, ..k);
-        high.drain(..high.len().saturating_sub(k));
-        let n = high.len() + at_high;
-        let high = with_ties(high, ht, at_high, n - k..);
+        low.resize(low.len() + at_low.min(k), self.low_threshold);
+        high.resize(high.len() + at_high.min(k), self.high_threshold);
         Some((low, high))
     }
-}
-
-/// The sorted `held` values with `ties` copies of `threshold` put in their place in the total
-/// order, cut to `range`.
-fn with_ties(
-    held: Vec<f64>,
-    threshold: f64,
-    ties: usize,
-    range: impl std::slice::SliceIndex<[f64], Output = [f64]>,
-) -> Vec<f64> {
-    let at = held.partition_point(|x| x.total_cmp(&threshold) == std::cmp::Ordering::Less);
-    let mut all = Vec::with_capacity(held.len() + ties);
-    all.extend_from_slice(&held[..at]);
-    all.resize(at + ties, threshold);
-    all.extend_from_slice(&held[at..]);
-    all[range].to_vec()
 }
 
 thread_local! {
