@@ -140,8 +140,10 @@ fn intervals_and_sorted(low: &[f64], high: &[f64], m: usize, p: f64) -> (Coverag
         k >= 1 && low.len() >= k && high.len() >= k,
         "tails too short"
     );
-    let lb = Buckets::of(low, (low.len() / PER_BUCKET).max(1));
-    let hb = Buckets::of(high, (high.len() / PER_BUCKET).max(1));
+    let (lb, hb) = rayon::join(
+        || Buckets::of(low, (low.len() / PER_BUCKET).max(1)),
+        || Buckets::of(high, (high.len() / PER_BUCKET).max(1)),
+    );
     // Rank j of the window (0-based, j < k): the low value has rank j in `low`, the high
     // value rank high_off + j in `high`.
     let high_off = high.len() - k;
@@ -175,8 +177,10 @@ fn intervals_and_sorted(low: &[f64], high: &[f64], m: usize, p: f64) -> (Coverag
     low_marked[ls] = true;
     high_marked[hs] = true;
 
-    let lg = Gathered::of(low, &lb, &low_marked);
-    let hg = Gathered::of(high, &hb, &high_marked);
+    let (lg, hg) = rayon::join(
+        || Gathered::of(low, &lb, &low_marked),
+        || Gathered::of(high, &hb, &high_marked),
+    );
     let symmetric = (lg.at(&lb, ls, rs), hg.at(&hb, hs, high_off + rs));
     let mut best = None;
     let mut best_width = f64::INFINITY;
