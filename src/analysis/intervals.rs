@@ -74,12 +74,31 @@ const DIRECT_BELOW: usize = 1 << 17;
 /// Size of the subsample that sets the selection threshold.
 const SUBSAMPLE: usize = 1 << 16;
 
-/// The k smallest values and the k largest values, each sorted ascending, from one pass over
-/// the data: thresholds come from an evenly spaced subsample (with a margin of six binomial
-/// standard deviations), the values beyond them are collected in parallel and sorted. If a
-/// threshold was too tight the pass is repeated with a wider margin; small samples are sorted
-/// outright.
+/// The k smallest values and the k largest values, each sorted ascending: [`unsorted_tails`],
+/// then sorted.
 pub fn tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
+    let (lo, hi) = unsorted_tails(values, k);
+    rayon::join(
+        || {
+            let mut lo = lo;
+            sort_finite(&mut lo);
+            lo.truncate(k);
+            lo
+        },
+        || {
+            let mut hi = hi;
+            sort_finite(&mut hi);
+            hi.split_off(hi.len() - k)
+        },
+    )
+}
+
+/// Two unsorted lists from one pass over the data: one whose k smallest values are the k
+/// smallest of `values` (any others larger), one whose k largest are the k largest, as
+/// [`super::tail_buckets::intervals_from_unsorted_tails`] takes them. Thresholds come from an
+/// evenly spaced subsample (with a margin of six binomial standard deviations); if one was too
+/// tight the pass is repeated with a wider margin; small samples are sorted outright.
+pub fn unsorted_tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
     let m = values.len();
     let k = k.min(m);
     if k == 0 {
@@ -130,19 +149,6 @@ pub fn tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
             hi.extend_from_slice(&b);
         }
         if lo.len() >= k && hi.len() >= k {
-            let (lo, hi) = rayon::join(
-                || {
-                    let mut lo = lo;
-                    sort_finite(&mut lo);
-                    lo.truncate(k);
-                    lo
-                },
-                || {
-                    let mut hi = hi;
-                    sort_finite(&mut hi);
-                    hi.split_off(hi.len() - k)
-                },
-            );
             return (lo, hi);
         }
         margin *= 4.0;
@@ -157,8 +163,8 @@ pub fn coverage_intervals(values: &[f64], p: f64) -> CoverageIntervals {
         k >= 1,
         "coverage interval needs M - q >= 1 (checked at load)"
     );
-    let (low, high) = tails(values, k);
-    intervals_from_tails(&low, &high, m, p)
+    let (low, high) = unsorted_tails(values, k);
+    super::tail_buckets::intervals_from_unsorted_tails(&low, &high, m, p)
 }
 
 /// Both coverage intervals from the two tails of the M values: `low` the M - q smallest, `high`
