@@ -24,11 +24,18 @@ const PER_BUCKET: usize = 32;
 struct Buckets {
     lo: f64,
     scale: f64,
-    count: Vec<usize>,
-    min: Vec<f64>,
-    max: Vec<f64>,
+    /// Per bucket: how many values, their least and their greatest (one cache line's worth
+    /// together, as the counting pass meets the buckets in random order).
+    cells: Vec<Cell>,
     /// start[b]: rank (0-based, ascending) of the first value of bucket b; start[B] = n.
     start: Vec<usize>,
+}
+
+#[derive(Clone, Copy)]
+struct Cell {
+    count: usize,
+    min: f64,
+    max: f64,
 }
 
 impl Buckets {
@@ -43,29 +50,33 @@ impl Buckets {
         // one bucket, which is still exact, only slower.
         let scale = buckets as f64 / (hi - lo);
         let scale = if scale.is_finite() { scale } else { 0.0 };
+        let empty = Cell {
+            count: 0,
+            min: f64::INFINITY,
+            max: f64::NEG_INFINITY,
+        };
         let mut b = Buckets {
             lo,
             scale,
-            count: vec![0; buckets],
-            min: vec![f64::INFINITY; buckets],
-            max: vec![f64::NEG_INFINITY; buckets],
+            cells: vec![empty; buckets],
             start: vec![0; buckets + 1],
         };
         for &x in values {
             let i = b.index(x);
-            b.count[i] += 1;
-            b.min[i] = b.min[i].min(x);
-            b.max[i] = b.max[i].max(x);
+            let c = &mut b.cells[i];
+            c.count += 1;
+            c.min = c.min.min(x);
+            c.max = c.max.max(x);
         }
         for i in 0..buckets {
-            b.start[i + 1] = b.start[i] + b.count[i];
+            b.start[i + 1] = b.start[i] + b.cells[i].count;
         }
         b
     }
 
     #[inline]
     fn index(&self, x: f64) -> usize {
-        (((x - self.lo) * self.scale) as usize).min(self.count.len() - 1)
+        (((x - self.lo) * self.scale) as usize).min(self.cells.len() - 1)
     }
 
     /// The bucket that holds rank `r`.
@@ -87,7 +98,7 @@ impl Gathered {
         for (i, &m) in marked.iter().enumerate() {
             if m {
                 offset[i] = total;
-                total += b.count[i];
+                total += b.cells[i].count;
             }
         }
         let mut out = vec![0.0; total];
@@ -101,7 +112,7 @@ impl Gathered {
         }
         for (i, &m) in marked.iter().enumerate() {
             if m {
-                sort_finite(&mut out[offset[i]..offset[i] + b.count[i]]);
+                sort_finite(&mut out[offset[i]..offset[i] + b.cells[i].count]);
             }
         }
         Gathered {
@@ -150,23 +161,30 @@ fn intervals_and_sorted(low: &[f64], high: &[f64], m: usize, p: f64) -> (Coverag
 
     // Segments of j over which both buckets stay the same.
     let mut segments: Vec<(usize, usize, usize, usize)> = Vec::new(); // (j0, j1, low b, high b)
+    let (mut i, mut h) = (lb.bucket_of(0), hb.bucket_of(high_off));
     let mut j = 0;
     while j < k {
-        // Each bucket_of finds the bucket holding the rank, so the segment is never empty.
-        let (i, h) = (lb.bucket_of(j), hb.bucket_of(high_off + j));
+        // Move on to the buckets that hold ranks j and high_off + j (both only grow), so the
+        // segment is never empty.
+        while lb.start[i + 1] <= j {
+            i += 1;
+        }
+        while hb.start[h + 1] <= high_off + j {
+            h += 1;
+        }
         let end = lb.start[i + 1].min(hb.start[h + 1] - high_off).min(k);
         segments.push((j, end, i, h));
         j = end;
     }
     let least_upper = segments
         .iter()
-        .map(|&(_, _, i, h)| hb.max[h] - lb.min[i])
+        .map(|&(_, _, i, h)| hb.cells[h].max - lb.cells[i].min)
         .fold(f64::INFINITY, f64::min);
-    let mut low_marked = vec![false; lb.count.len()];
-    let mut high_marked = vec![false; hb.count.len()];
+    let mut low_marked = vec![false; lb.cells.len()];
+    let mut high_marked = vec![false; hb.cells.len()];
     let candidates: Vec<(usize, usize, usize, usize)> = segments
         .into_iter()
-        .filter(|&(_, _, i, h)| hb.min[h] - lb.max[i] <= least_upper)
+        .filter(|&(_, _, i, h)| hb.cells[h].min - lb.cells[i].max <= least_upper)
         .collect();
     for &(_, _, i, h) in &candidates {
         low_marked[i] = true;
