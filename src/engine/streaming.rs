@@ -49,13 +49,26 @@ fn budget_error(trials: u64, needed: u64, budget: u64) -> RunError {
     }
 }
 
-/// Bytes the tails of one measurand are expected to take: both tails, with the margin of a
-/// threshold set from a sample of `n` values, plus a tenth for growth.
-fn expected_tail_bytes(n: usize, k: usize, m: u64, sigmas: f64) -> u64 {
+/// Values the tails of one measurand are expected to hold: both tails, with the margin of a
+/// threshold set from a sample of `n` values.
+fn expected_tail_values(n: usize, k: usize, m: u64, sigmas: f64) -> u64 {
     let frac = k as f64 / m as f64;
     let margin = sigmas.max(0.0) * (n as f64 * frac * (1.0 - frac)).sqrt() + 16.0;
-    let kept = 2.0 * (frac + margin / n as f64) * m as f64;
-    (kept * 8.0 * 1.1) as u64
+    (2.0 * (frac + margin / n as f64) * m as f64).ceil() as u64
+}
+
+/// Memory the two tails of one measurand take at their peak: the values and the buckets that
+/// find the intervals in them.
+fn expected_tail_bytes(n: usize, k: usize, m: u64, sigmas: f64) -> u64 {
+    let per_value = 8.0 + crate::analysis::tail_buckets::BYTES_PER_VALUE;
+    (expected_tail_values(n, k, m, sigmas) as f64 * per_value).ceil() as u64
+}
+
+/// Room reserved for each tail list: half the expected values and a tenth more (reserved
+/// address space costs no memory until it is written, and a list that outgrew it would be
+/// copied whole).
+fn tail_capacity(n: usize, k: usize, m: u64, sigmas: f64) -> usize {
+    (expected_tail_values(n, k, m, sigmas) as f64 * 0.55) as usize
 }
 
 /// The result of a run made without holding its values.
@@ -160,7 +173,7 @@ pub fn one_pass(
     if need > usable {
         return Ok(None);
     }
-    let capacity = (expected_tail_bytes(n, k, m, sigmas) / 16) as usize;
+    let capacity = tail_capacity(n, k, m, sigmas);
     let collectors: Vec<TailCollector> = samples
         .par_iter_mut()
         .map(|s| {
@@ -252,7 +265,7 @@ pub fn simulate_streamed(
             .iter()
             .map(|&i| {
                 let (lo, hi) = thresholds(&mut subsamples[i].clone(), k, m as usize, sigmas[i]);
-                let cap = (expected_tail_bytes(subsamples[i].len(), k, m, sigmas[i]) / 16) as usize;
+                let cap = tail_capacity(subsamples[i].len(), k, m, sigmas[i]);
                 TailCollector::new(lo, hi, cap)
             })
             .collect();
