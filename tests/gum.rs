@@ -47,7 +47,7 @@ fn mass_calibration_lpu_and_validation() {
     assert_eq!(r["trials_used"], 1_000_000);
 }
 
-// JCGM 100:2008 H.1 (REFERENCES 2, via a transcription): u_c = 32 nm (31.7 unrounded),
+// JCGM 100:2008 H.1 (REFERENCES 2): u_c = 32 nm (31.7 unrounded),
 // nu_eff = 16, k_99 = 2.92, U_99 = 93 nm; with second-order terms u_c = 34 nm (from memory).
 #[test]
 fn end_gauge_of_gum_h1() {
