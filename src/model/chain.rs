@@ -43,6 +43,97 @@ pub struct ChainInput {
     pub description: &'static str,
 }
 
+/// A chain input, written compactly in the chain files' tables.
+pub const fn input(
+    name: &'static str,
+    dimension: Dimension,
+    default: Option<f64>,
+    domain: Domain,
+    description: &'static str,
+) -> ChainInput {
+    ChainInput {
+        name,
+        dimension,
+        default,
+        domain,
+        description,
+    }
+}
+
+/// The mirror and beam inputs every chain takes, in this order: R, theta, w, a, T, Rd (the
+/// terms of `physics::momentum::normal_force_factor` and `physics::beam`).
+pub const MIRROR_AND_BEAM_INPUTS: [ChainInput; 6] = [
+    input(
+        "reflectance",
+        Dimension::NONE,
+        None,
+        Domain::UnitInterval,
+        "specular reflectance R of the mirror",
+    ),
+    input(
+        "incidence",
+        Dimension::ANGLE,
+        None,
+        Domain::Incidence,
+        "angle of incidence theta on the mirror",
+    ),
+    input(
+        "beam_radius",
+        Dimension::LENGTH,
+        None,
+        Domain::Positive,
+        "1/e^2 radius w of the Gaussian beam at the mirror",
+    ),
+    input(
+        "mirror_radius",
+        Dimension::LENGTH,
+        None,
+        Domain::Positive,
+        "radius a of the (centred, circular) mirror",
+    ),
+    input(
+        "transmittance",
+        Dimension::NONE,
+        Some(0.0),
+        Domain::UnitInterval,
+        "transmittance T of the mirror (default 0)",
+    ),
+    input(
+        "diffuse_reflectance",
+        Dimension::NONE,
+        Some(0.0),
+        Domain::UnitInterval,
+        "diffuse (Lambertian) reflectance Rd (default 0)",
+    ),
+];
+
+/// The input `[noise]` makes, which every chain adds to its force.
+pub const NOISE_FORCE_INPUT: ChainInput = input(
+    "noise_force",
+    Dimension::FORCE,
+    Some(0.0),
+    Domain::Any,
+    "zero-mean force noise left after averaging (made from [noise]), default 0",
+);
+
+/// The inputs of `parts` one after the other, as one table of N (checked when the table is
+/// built, at compile time).
+pub const fn join<const N: usize>(parts: &[&[ChainInput]]) -> [ChainInput; N] {
+    let mut all = [NOISE_FORCE_INPUT; N];
+    let (mut p, mut n) = (0, 0);
+    while p < parts.len() {
+        let mut i = 0;
+        while i < parts[p].len() {
+            all[n] = parts[p][i];
+            n += 1;
+            i += 1;
+        }
+        p += 1;
+    }
+    assert!(n == N, "join: the parts do not make N inputs");
+    all
+}
+
 /// One measurand a chain gives.
 #[derive(Clone, Copy, Debug)]
 pub struct ChainMeasurand {

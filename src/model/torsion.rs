@@ -9,7 +9,10 @@
 //! Sources: momentum transfer and the multi-bounce sum in `physics::momentum`, the Gaussian
 //! clipping in `physics::beam`, the balance and optical lever in `physics::torsion`.
 
-use super::chain::{ChainInput, ChainMeasurand, ChainSpec, Domain};
+use super::chain::{
+    ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT,
+    input, join,
+};
 use crate::physics::beam::gaussian_aperture_fraction;
 use crate::physics::constants::SPEED_OF_LIGHT;
 use crate::physics::momentum::{bounce_sum, normal_force_factor};
@@ -20,138 +23,71 @@ use crate::physics::torsion::{
 use crate::scalar::Scalar;
 use crate::units::Dimension;
 
-const fn input(
-    name: &'static str,
-    dimension: Dimension,
-    default: Option<f64>,
-    domain: Domain,
-    description: &'static str,
-) -> ChainInput {
-    ChainInput {
-        name,
-        dimension,
-        default,
-        domain,
-        description,
-    }
-}
+/// The balance inputs of both torsion chains, before the mirror and beam.
+const BALANCE_INPUTS: [ChainInput; 4] = [
+    input(
+        "scale_distance",
+        Dimension::LENGTH,
+        None,
+        Domain::Positive,
+        "distance D from the pendulum mirror to the optical-lever scale",
+    ),
+    input(
+        "free_period",
+        Dimension::TIME,
+        None,
+        Domain::Positive,
+        "free oscillation period T0 of the pendulum",
+    ),
+    input(
+        "moment_of_inertia",
+        Dimension::MOMENT_OF_INERTIA,
+        None,
+        Domain::Positive,
+        "moment of inertia I of the pendulum about the fibre",
+    ),
+    input(
+        "lever_arm",
+        Dimension::LENGTH,
+        None,
+        Domain::Positive,
+        "lever arm L from the beam spot to the fibre axis",
+    ),
+];
 
-/// The balance, mirror and beam inputs shared by both torsion chains (after the first, which
-/// differs).
-macro_rules! shared_inputs {
-    () => {
-        [
-            input(
-                "scale_distance",
-                Dimension::LENGTH,
-                None,
-                Domain::Positive,
-                "distance D from the pendulum mirror to the optical-lever scale",
-            ),
-            input(
-                "free_period",
-                Dimension::TIME,
-                None,
-                Domain::Positive,
-                "free oscillation period T0 of the pendulum",
-            ),
-            input(
-                "moment_of_inertia",
-                Dimension::MOMENT_OF_INERTIA,
-                None,
-                Domain::Positive,
-                "moment of inertia I of the pendulum about the fibre",
-            ),
-            input(
-                "lever_arm",
-                Dimension::LENGTH,
-                None,
-                Domain::Positive,
-                "lever arm L from the beam spot to the fibre axis",
-            ),
-            input(
-                "reflectance",
-                Dimension::NONE,
-                None,
-                Domain::UnitInterval,
-                "specular reflectance R of the mirror",
-            ),
-            input(
-                "incidence",
-                Dimension::ANGLE,
-                None,
-                Domain::Incidence,
-                "angle of incidence theta on the mirror",
-            ),
-            input(
-                "beam_radius",
-                Dimension::LENGTH,
-                None,
-                Domain::Positive,
-                "1/e^2 radius w of the Gaussian beam at the mirror",
-            ),
-            input(
-                "mirror_radius",
-                Dimension::LENGTH,
-                None,
-                Domain::Positive,
-                "radius a of the (centred, circular) mirror",
-            ),
-            input(
-                "transmittance",
-                Dimension::NONE,
-                Some(0.0),
-                Domain::UnitInterval,
-                "transmittance T of the mirror (default 0)",
-            ),
-            input(
-                "diffuse_reflectance",
-                Dimension::NONE,
-                Some(0.0),
-                Domain::UnitInterval,
-                "diffuse (Lambertian) reflectance Rd (default 0)",
-            ),
-            input(
-                "bounces",
-                Dimension::NONE,
-                Some(1.0),
-                Domain::Count,
-                "reflections whose force acts on the pendulum (default 1)",
-            ),
-            input(
-                "quality_factor",
-                Dimension::NONE,
-                Some(f64::INFINITY),
-                Domain::QualityFactor,
-                "quality factor Q of the free oscillation (absent: undamped)",
-            ),
-            input(
-                "stray_force",
-                Dimension::FORCE,
-                Some(0.0),
-                Domain::Any,
-                "force on the arm not due to radiation (gas, electrostatics), default 0",
-            ),
-            input(
-                "noise_force",
-                Dimension::FORCE,
-                Some(0.0),
-                Domain::Any,
-                "zero-mean force noise left after averaging (made from [noise]), default 0",
-            ),
-        ]
-    };
-}
+/// The inputs of both torsion chains after the mirror and beam.
+const PENDULUM_INPUTS: [ChainInput; 4] = [
+    input(
+        "bounces",
+        Dimension::NONE,
+        Some(1.0),
+        Domain::Count,
+        "reflections whose force acts on the pendulum (default 1)",
+    ),
+    input(
+        "quality_factor",
+        Dimension::NONE,
+        Some(f64::INFINITY),
+        Domain::QualityFactor,
+        "quality factor Q of the free oscillation (absent: undamped)",
+    ),
+    input(
+        "stray_force",
+        Dimension::FORCE,
+        Some(0.0),
+        Domain::Any,
+        "force on the arm not due to radiation (gas, electrostatics), default 0",
+    ),
+    NOISE_FORCE_INPUT,
+];
 
 const fn with_first(first: ChainInput) -> [ChainInput; 15] {
-    let rest: [ChainInput; 14] = shared_inputs!();
-    let mut all = [first; 15];
-    let mut i = 0;
-    while i < 14 {
-        all[i + 1] = rest[i];
-        i += 1;
-    }
-    all
+    join(&[
+        &[first],
+        &BALANCE_INPUTS,
+        &MIRROR_AND_BEAM_INPUTS,
+        &PENDULUM_INPUTS,
+    ])
 }
 
 const TORSION_POWER_INPUTS: [ChainInput; 15] = with_first(input(

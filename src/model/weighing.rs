@@ -10,7 +10,10 @@
 //! beam terms of the torsion chains (physics::momentum, physics::beam). `bounces` counts only the
 //! reflections whose force acts on the weighed body.
 
-use super::chain::{ChainInput, ChainMeasurand, ChainSpec, Domain};
+use super::chain::{
+    ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT,
+    input, join,
+};
 use crate::physics::balance::{balance_reading, force_from_reading};
 use crate::physics::beam::gaussian_aperture_fraction;
 use crate::physics::constants::{SPEED_OF_LIGHT, STANDARD_GRAVITY};
@@ -18,110 +21,57 @@ use crate::physics::momentum::{bounce_sum, normal_force_factor};
 use crate::scalar::Scalar;
 use crate::units::Dimension;
 
-const fn input(
-    name: &'static str,
-    dimension: Dimension,
-    default: Option<f64>,
-    domain: Domain,
-    description: &'static str,
-) -> ChainInput {
-    ChainInput {
-        name,
-        dimension,
-        default,
-        domain,
-        description,
-    }
-}
+/// The balance inputs of both weighing chains, before the mirror and beam.
+const BALANCE_INPUTS: [ChainInput; 3] = [
+    input(
+        "local_gravity",
+        Dimension::ACCELERATION,
+        Some(STANDARD_GRAVITY),
+        Domain::Positive,
+        "local acceleration of gravity g at the balance (default g_n = 9.80665 m/s^2)",
+    ),
+    input(
+        "sensing_angle",
+        Dimension::ANGLE,
+        Some(0.0),
+        Domain::Incidence,
+        "angle beta between the mirror normal and the balance's sensing axis (default 0)",
+    ),
+    input(
+        "calibration_factor",
+        Dimension::NONE,
+        Some(1.0),
+        Domain::Positive,
+        "the balance's indication over the true value, k (default 1)",
+    ),
+];
+
+/// The inputs of both weighing chains after the mirror and beam.
+const WEIGHED_BODY_INPUTS: [ChainInput; 3] = [
+    input(
+        "bounces",
+        Dimension::NONE,
+        Some(1.0),
+        Domain::Count,
+        "reflections whose force acts on the weighed body (default 1)",
+    ),
+    input(
+        "stray_force",
+        Dimension::FORCE,
+        Some(0.0),
+        Domain::Any,
+        "force along the sensing axis not due to radiation (convection, buoyancy drift), default 0",
+    ),
+    NOISE_FORCE_INPUT,
+];
 
 const fn shared(first: ChainInput) -> [ChainInput; 13] {
-    [
-        first,
-        input(
-            "local_gravity",
-            Dimension::ACCELERATION,
-            Some(STANDARD_GRAVITY),
-            Domain::Positive,
-            "local acceleration of gravity g at the balance (default g_n = 9.80665 m/s^2)",
-        ),
-        input(
-            "sensing_angle",
-            Dimension::ANGLE,
-            Some(0.0),
-            Domain::Incidence,
-            "angle beta between the mirror normal and the balance's sensing axis (default 0)",
-        ),
-        input(
-            "calibration_factor",
-            Dimension::NONE,
-            Some(1.0),
-            Domain::Positive,
-            "the balance's indication over the true value, k (default 1)",
-        ),
-        input(
-            "reflectance",
-            Dimension::NONE,
-            None,
-            Domain::UnitInterval,
-            "specular reflectance R of the mirror",
-        ),
-        input(
-            "incidence",
-            Dimension::ANGLE,
-            None,
-            Domain::Incidence,
-            "angle of incidence theta on the mirror",
-        ),
-        input(
-            "beam_radius",
-            Dimension::LENGTH,
-            None,
-            Domain::Positive,
-            "1/e^2 radius w of the Gaussian beam at the mirror",
-        ),
-        input(
-            "mirror_radius",
-            Dimension::LENGTH,
-            None,
-            Domain::Positive,
-            "radius a of the (centred, circular) mirror",
-        ),
-        input(
-            "transmittance",
-            Dimension::NONE,
-            Some(0.0),
-            Domain::UnitInterval,
-            "transmittance T of the mirror (default 0)",
-        ),
-        input(
-            "diffuse_reflectance",
-            Dimension::NONE,
-            Some(0.0),
-            Domain::UnitInterval,
-            "diffuse (Lambertian) reflectance Rd (default 0)",
-        ),
-        input(
-            "bounces",
-            Dimension::NONE,
-            Some(1.0),
-            Domain::Count,
-            "reflections whose force acts on the weighed body (default 1)",
-        ),
-        input(
-            "stray_force",
-            Dimension::FORCE,
-            Some(0.0),
-            Domain::Any,
-            "force along the sensing axis not due to radiation (convection, buoyancy drift), default 0",
-        ),
-        input(
-            "noise_force",
-            Dimension::FORCE,
-            Some(0.0),
-            Domain::Any,
-            "zero-mean force noise left after averaging (made from [noise]), default 0",
-        ),
-    ]
+    join(&[
+        &[first],
+        &BALANCE_INPUTS,
+        &MIRROR_AND_BEAM_INPUTS,
+        &WEIGHED_BODY_INPUTS,
+    ])
 }
 
 const WEIGHING_POWER_INPUTS: [ChainInput; 13] = shared(input(
