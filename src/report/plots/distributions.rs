@@ -84,11 +84,7 @@ where
         .configure_mesh()
         .light_line_style(TRANSPARENT)
         .x_desc(axis_label(&m.name, &unit.symbol))
-        .y_desc(if unit.symbol.is_empty() {
-            "probability density".to_string()
-        } else {
-            format!("probability density / (1/{})", unit.symbol)
-        })
+        .y_desc(super::density_label(&unit.symbol))
         .label_style(("sans-serif", 12))
         .draw()?;
     let w = h.width() / k;
@@ -138,14 +134,7 @@ where
             &format!("{p} law of propagation"),
         )?;
     }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 11))
-        .draw()?;
-    Ok(())
+    super::legend(&mut chart, SeriesLabelPosition::UpperRight, 11)
 }
 
 /// The distribution function of a measurand at the histogram's edges, with the coverage
@@ -208,14 +197,7 @@ where
         )?
         .label(format!("{} symmetric interval", percent(f.coverage)))
         .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 16, y)], SYMMETRIC.stroke_width(2)));
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 11))
-        .draw()?;
-    Ok(())
+    super::legend(&mut chart, SeriesLabelPosition::UpperLeft, 11)
 }
 
 /// An input's sampled histogram against the density it was given.
@@ -258,11 +240,7 @@ where
         .configure_mesh()
         .light_line_style(TRANSPARENT)
         .x_desc(axis_label(&q.name, unit))
-        .y_desc(if unit.is_empty() {
-            "probability density".to_string()
-        } else {
-            format!("probability density / (1/{unit})")
-        })
+        .y_desc(super::density_label(unit))
         .label_style(("sans-serif", 12))
         .draw()?;
     let w = h.width() / k;
@@ -282,12 +260,5 @@ where
         ))?
         .label("stated density")
         .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 16, y)], CURVE.stroke_width(2)));
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 11))
-        .draw()?;
-    Ok(())
+    super::legend(&mut chart, SeriesLabelPosition::UpperRight, 11)
 }

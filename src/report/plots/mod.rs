@@ -19,6 +19,34 @@ use std::sync::Once;
 static FONT: &[u8] = include_bytes!("../../../assets/fonts/DejaVuSans.ttf");
 static REGISTER: Once = Once::new();
 
+/// The legend every chart draws: a framed, nearly opaque box at `position`.
+fn legend<'a, DB: DrawingBackend + 'a, CT: plotters::coord::CoordTranslate>(
+    chart: &mut ChartContext<'a, DB, CT>,
+    position: SeriesLabelPosition,
+    font_size: u32,
+) -> Result<(), Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
+    chart
+        .configure_series_labels()
+        .position(position)
+        .background_style(WHITE.mix(0.85))
+        .border_style(BLACK)
+        .label_font(("sans-serif", font_size))
+        .draw()?;
+    Ok(())
+}
+
+/// The label of a probability density axis: per unit of the quantity.
+fn density_label(unit: &str) -> String {
+    if unit.is_empty() {
+        "probability density".to_string()
+    } else {
+        format!("probability density / (1/{unit})")
+    }
+}
+
 /// Register the bundled font (once per process).
 pub fn ensure_font() {
     REGISTER.call_once(|| {

@@ -99,12 +99,5 @@ where
         w.extend(whisker(i as f64 + 0.71, r.indices.total_interval));
         w
     }))?;
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 12))
-        .draw()?;
-    Ok(())
+    super::legend(&mut chart, SeriesLabelPosition::UpperRight, 12)
 }

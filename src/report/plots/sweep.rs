@@ -84,12 +84,5 @@ where
         )?
         .label("standard")
         .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 16, y)], LINE2.stroke_width(2)));
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 12))
-        .draw()?;
-    Ok(())
+    super::legend(&mut chart, SeriesLabelPosition::UpperRight, 12)
 }
