@@ -62,29 +62,12 @@ pub fn fill_inputs<R: Rng + Clone>(
             }
             FillStep::Group(g) => {
                 let group = &study.correlations.groups[g];
-                let m = group.members.len();
                 for &i in &group.members {
                     for x in &mut work[i * stride..i * stride + n] {
                         *x = StandardNormal.sample(rng);
                     }
                 }
-                let l = &group.cholesky;
-                for t in 0..n {
-                    // x = L z in place, bottom row first (row r uses z_0..z_r).
-                    for r in (0..m).rev() {
-                        let mut acc = 0.0;
-                        for c in 0..=r {
-                            acc += l[r * m + c] * work[group.members[c] * stride + t];
-                        }
-                        work[group.members[r] * stride + t] = acc;
-                    }
-                }
-                for &i in &group.members {
-                    let col = &mut work[i * stride..i * stride + n];
-                    if let Law::Distributed(d) = &study.inputs[i].law {
-                        marginal(d, col);
-                    }
-                }
+                correlate_group(study, g, work, stride, n);
             }
         }
     }
@@ -117,7 +100,6 @@ pub fn fill_inputs_from_uniforms(
             }
             FillStep::Group(g) => {
                 let group = &study.correlations.groups[g];
-                let m = group.members.len();
                 for &i in &group.members {
                     for t in 0..n {
                         work[i * stride + t] = crate::dist::special::std_normal_quantile(
@@ -125,23 +107,32 @@ pub fn fill_inputs_from_uniforms(
                         );
                     }
                 }
-                let l = &group.cholesky;
-                for t in 0..n {
-                    for r in (0..m).rev() {
-                        let mut acc = 0.0;
-                        for c in 0..=r {
-                            acc += l[r * m + c] * work[group.members[c] * stride + t];
-                        }
-                        work[group.members[r] * stride + t] = acc;
-                    }
-                }
-                for &i in &group.members {
-                    let col = &mut work[i * stride..i * stride + n];
-                    if let Law::Distributed(d) = &study.inputs[i].law {
-                        marginal(d, col);
-                    }
-                }
+                correlate_group(study, g, work, stride, n);
             }
+        }
+    }
+}
+
+/// Correlated group g, whose columns hold independent standard normal scores z: x = L z in
+/// place (JCGM 101 6.4.8), then each member mapped to its own distribution.
+fn correlate_group(study: &Study, g: usize, work: &mut [f64], stride: usize, n: usize) {
+    let group = &study.correlations.groups[g];
+    let m = group.members.len();
+    let l = &group.cholesky;
+    for t in 0..n {
+        // Bottom row first: row r uses z_0..z_r, which are still unchanged.
+        for r in (0..m).rev() {
+            let mut acc = 0.0;
+            for c in 0..=r {
+                acc += l[r * m + c] * work[group.members[c] * stride + t];
+            }
+            work[group.members[r] * stride + t] = acc;
+        }
+    }
+    for &i in &group.members {
+        let col = &mut work[i * stride..i * stride + n];
+        if let Law::Distributed(d) = &study.inputs[i].law {
+            marginal(d, col);
         }
     }
 }
