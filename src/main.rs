@@ -112,7 +112,8 @@ struct StudyArgs {
     /// Override the scenario's seed.
     #[arg(long)]
     seed: Option<u64>,
-    /// Most memory the samples may take, e.g. 8GiB (default: half of this machine's memory).
+    /// Most memory the run may hold, e.g. 8GiB (default: half of this machine's memory); a
+    /// plain run beyond it is made in more passes, with the same results.
     #[arg(long)]
     memory_budget: Option<String>,
 }
@@ -217,7 +218,7 @@ struct CompareArgs {
     /// Seed for every design (default: the first design's).
     #[arg(long)]
     seed: Option<u64>,
-    /// Most memory the samples of one design may take, e.g. 8GiB.
+    /// Most memory the run of one design may hold, e.g. 8GiB.
     #[arg(long)]
     memory_budget: Option<String>,
     #[command(flatten)]
@@ -653,12 +654,7 @@ fn plan_command(args: &PlanArgs) -> Result<(), Error> {
                     "--measurand",
                     format!(
                         "no measurand `{name}` (the scenario has: {})",
-                        study
-                            .measurands
-                            .iter()
-                            .map(|x| x.name.as_str())
-                            .collect::<Vec<_>>()
-                            .join(", ")
+                        study.measurand_names()
                     ),
                     "--measurand power",
                 )

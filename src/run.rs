@@ -330,12 +330,7 @@ pub fn compare_designs(
                 key: Some("--measurand".into()),
                 message: format!(
                     "design `{name}` has no measurand `{measurand_name}` (it has: {})",
-                    study
-                        .measurands
-                        .iter()
-                        .map(|x| x.name.as_str())
-                        .collect::<Vec<_>>()
-                        .join(", ")
+                    study.measurand_names()
                 ),
                 example: Some("--measurand power".into()),
             }

@@ -117,6 +117,15 @@ impl Study {
         s.sweep = None;
         Ok(s)
     }
+
+    /// The measurands' names, comma-separated, for messages that list the valid ones.
+    pub fn measurand_names(&self) -> String {
+        self.measurands
+            .iter()
+            .map(|x| x.name.as_str())
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
 }
 
 /// Settings of the adaptive Monte Carlo procedure (JCGM 101:2008 7.9.4).
