@@ -39,11 +39,14 @@ fn catalogue() -> Vec<(PathBuf, String, String)> {
         .collect()
 }
 
+// The catalogue keeps at least 40 distinct cases (the project's trust requirement; common practice).
 #[test]
 fn the_catalogue_has_at_least_forty_cases() {
     assert!(catalogue().len() >= 40, "{} cases", catalogue().len());
 }
 
+// Each catalogued file exits 2 with its expected message and key, and writes nothing (common
+// practice: refuse, never clamp or half-write).
 #[test]
 fn every_bad_input_is_refused_clearly() {
     let out_dir = scratch("catalogue");
@@ -120,6 +123,8 @@ fn every_bad_input_is_refused_clearly() {
     }
 }
 
+// A missing file, a directory and a file far larger than any scenario are refused with exit 2
+// (common practice).
 #[test]
 fn files_that_are_not_scenarios() {
     radforce()

@@ -78,6 +78,7 @@ fn signal_then_power_round_trip() {
     assert!(back[0].value().is_finite());
 }
 
+// Every bundled scenario loads (common practice: shipped examples must work).
 #[test]
 fn demo_scenarios_load() {
     for f in [

@@ -29,6 +29,7 @@ fn write(dir: &std::path::Path, name: &str, text: &str) -> std::path::PathBuf {
     p
 }
 
+// A valid scenario runs (exit 0) and `check` accepts it (common practice).
 #[test]
 fn a_good_file_runs_and_checks() {
     let dir = scratch("good");
@@ -78,6 +79,7 @@ fn assert_refused(text: &str, key: &str, fragment: &str) {
     );
 }
 
+// Bad files exit 2 naming the key, with nothing written (common practice).
 #[test]
 fn bad_files_exit_2_naming_the_key_and_write_nothing() {
     assert_refused(
@@ -117,6 +119,8 @@ fn bad_files_exit_2_naming_the_key_and_write_nothing() {
     );
 }
 
+// A reflectance above 1 and an incidence of 90 deg are physically impossible and refused, not
+// clamped; a missing required chain input is named (common practice).
 #[test]
 fn a_torsion_input_outside_its_physical_range_is_refused() {
     let text = std::fs::read_to_string(common::path("data/torsion-vacuum-20w.toml")).unwrap();
@@ -128,6 +132,7 @@ fn a_torsion_input_outside_its_physical_range_is_refused() {
     assert_refused(&bad, "model.chain", "mirror_radius");
 }
 
+// A missing file, a directory or no file at all is bad input, exit 2 (common practice).
 #[test]
 fn missing_file_and_directory_are_bad_input() {
     radforce()
@@ -143,6 +148,8 @@ fn missing_file_and_directory_are_bad_input() {
     radforce().args(["run"]).assert().code(2);
 }
 
+// ln of a negative value is not finite (IEEE 754 gives NaN): the run fails with exit 1 and
+// names the inputs of the first such trial.
 #[test]
 fn a_non_finite_model_value_fails_the_run_naming_the_trial_inputs() {
     let dir = scratch("nonfinite");
@@ -163,6 +170,7 @@ fn a_non_finite_model_value_fails_the_run_naming_the_trial_inputs() {
         .stderr(predicate::str::contains("a = "));
 }
 
+// `radforce new` writes a scenario that runs unchanged (common practice).
 #[test]
 fn the_starter_scenario_runs_as_written() {
     let dir = scratch("starter");
@@ -191,6 +199,7 @@ fn the_starter_scenario_runs_as_written() {
         .success();
 }
 
+// An output file is replaced only with --force, and then whole (common practice).
 #[test]
 fn output_file_is_written_whole_and_not_replaced_without_force() {
     let dir = scratch("output");
@@ -238,6 +247,8 @@ fn output_file_is_written_whole_and_not_replaced_without_force() {
     assert_ne!(std::fs::read(&out).unwrap(), first);
 }
 
+// A run whose tails do not fit the budget even one measurand a pass is refused before it starts,
+// exit 2 (common practice).
 #[test]
 fn memory_budget_refuses_an_oversized_run() {
     radforce()

@@ -367,6 +367,7 @@ fn markdown_reports() {
     );
 }
 
+// Misspelled variant inputs and impossible sweeps are refused with exit 2 (common practice).
 #[test]
 fn bad_variants_and_sweeps_are_refused() {
     let base =

@@ -26,6 +26,8 @@ fn json_with_threads(file: &str, threads: &str) -> Vec<u8> {
     out.stdout
 }
 
+// Same scenario and seed, same bytes, whatever the thread count (the project's reproducibility
+// contract; common practice).
 #[test]
 fn identical_json_on_1_2_3_and_4_threads() {
     for file in [
@@ -42,6 +44,8 @@ fn identical_json_on_1_2_3_and_4_threads() {
     }
 }
 
+// Another seed gives other streams and so other numbers (common practice: shows the seed is
+// used).
 #[test]
 fn a_different_seed_gives_different_numbers() {
     let a = json_with_threads("data/validation/jcgm101-9.3-mass.toml", "2");

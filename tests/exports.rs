@@ -359,6 +359,8 @@ fn the_bundle_regenerates_byte_identically() {
     assert_eq!(read_tree(&dir), fresh);
 }
 
+// Completions (zsh's `compdef` directive, from memory), a roff man page and a JSON Schema are
+// printed (common practice).
 #[test]
 fn completions_manual_and_schema() {
     radforce()

@@ -226,6 +226,7 @@ fn adaptive_runs_honour_their_stopping_rule() {
     assert_eq!(again.samples.measurands[0], run.samples.measurands[0]);
 }
 
+// JCGM 101 7.9.4: h batches of M = max(J, 10^4) = 10^4 trials at p = 0.95 (J = 2000).
 #[test]
 fn adaptive_report_names_trials_used() {
     let dir = scratch("adaptive");
@@ -346,6 +347,8 @@ fn refused(text: &str, fragment: &str) {
         .stderr(predicate::str::contains(fragment));
 }
 
+// A correlation coefficient lies in [-1, 1] (its definition); a pair of one input with itself,
+// an unknown input or a constant is refused (common practice).
 #[test]
 fn bad_correlations_are_refused_naming_the_pair() {
     refused(

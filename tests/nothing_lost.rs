@@ -20,6 +20,8 @@ sd = 0.1
 formula = "sin(a)*cos(a)*exp(a)*atan(a)*sqrt(a*a+1) + ln(a*a+1)*tan(a/3)*asin(a/3)*acos(a/4) + sin(a)*cos(a)*exp(a)*atan(a)*sqrt(a*a+1) + ln(a*a+1)*tan(a/3)*asin(a/3)*acos(a/4)"
 "#;
 
+// A run killed midway leaves the previous output file as it was (common practice: write to a
+// temporary file, then rename).
 #[test]
 fn a_killed_run_leaves_the_previous_output_intact() {
     let dir = scratch("killed");

@@ -151,6 +151,7 @@ fn shards_merged_equal_the_single_run() {
     }
 }
 
+// Bad --shard values and mismatched, doubled or missing parts exit 2 (common practice).
 #[test]
 fn bad_shards_and_merges_are_refused() {
     let dir = scratch("bad-shards");

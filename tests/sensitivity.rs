@@ -266,6 +266,7 @@ fn correlated_inputs_are_grouped() {
     assert!(String::from_utf8_lossy(&text_out.stdout).contains("grouped indices"));
 }
 
+// `rank --plots` writes the sensitivity chart (common practice).
 #[test]
 fn rank_writes_a_chart_of_the_indices() {
     let dir = scratch("rank-plots");
