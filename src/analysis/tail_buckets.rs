@@ -224,7 +224,7 @@ fn intervals_and_sorted(low: &[f64], high: &[f64], m: usize, p: f64) -> (Coverag
         }
     }
     // No finite width at all (values at opposite extremes of the f64 range): the scan of
-    // sorted tails keeps the first window, then a candidate as every segment is.
+    // sorted tails keeps the first window, which is then a candidate (as every window is).
     let best = best.unwrap_or_else(|| {
         let (i, h) = (lb.bucket_of(0), hb.bucket_of(high_off));
         (lg.at(&lb, i, 0), hg.at(&hb, h, high_off))
