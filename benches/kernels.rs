@@ -2,12 +2,12 @@
 //! Run with `cargo bench --bench kernels`.
 
 use divan::{Bencher, black_box};
-use radforce::analysis::intervals::coverage_intervals;
-use radforce::analysis::moments::{Moments, joint_moments};
 use radforce::dist::{Distribution, Normal, Rectangular, ScaledT};
 use radforce::engine::sampling::{fill_inputs, fill_steps};
 use radforce::engine::{BLOCK_TRIALS, Plan, simulate, stream::chunk_stream};
 use radforce::scenario::{Study, load_file};
+use radforce::stats::intervals::coverage_intervals;
+use radforce::stats::moments::{Moments, joint_moments};
 use std::path::Path;
 
 fn main() {

@@ -4,12 +4,13 @@
 use clap::{Parser, Subcommand, ValueEnum};
 use radforce::analysis::Findings;
 use radforce::analysis::planning::{Comparison, PlanFinding, TargetSpec};
+use radforce::engine;
 use radforce::engine::sensitivity::BaseSampler;
 use radforce::error::{Error, InputError, RunError};
 use radforce::report::{self, Format};
+use radforce::run::output;
 use radforce::run::{self, RankOptions, RunOptions};
 use radforce::scenario::{self, Study};
-use radforce::{engine, output};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -481,7 +482,9 @@ fn shard_command(args: &RunArgs, shard: &str) -> Result<(), Error> {
     }
     let bytes = engine::with_threads(args.study.threads, || -> Result<Vec<u8>, Error> {
         let samples = engine::simulate(&study, plan)?;
-        Ok(radforce::shard::write_part(&study, &text, &samples, k, n))
+        Ok(radforce::run::shard::write_part(
+            &study, &text, &samples, k, n,
+        ))
     })??;
     output::write_atomic(path, &bytes, args.out.force)
 }
@@ -494,10 +497,13 @@ fn merge_command(args: &MergeArgs) -> Result<(), Error> {
         let bytes = std::fs::read(p).map_err(|e| {
             InputError::file(&shown, format!("cannot read the partial result: {e}"))
         })?;
-        parts.push((shown.clone(), radforce::shard::read_part(&bytes, &shown)?));
+        parts.push((
+            shown.clone(),
+            radforce::run::shard::read_part(&bytes, &shown)?,
+        ));
     }
     let findings = engine::with_threads(None, || -> Result<Findings, Error> {
-        let (study, mc) = radforce::shard::merge_parts(&parts)?;
+        let (study, mc) = radforce::run::shard::merge_parts(&parts)?;
         Ok(radforce::analysis::findings_from(&study, &mc, None))
     })??;
     deliver(Report::Run(&findings), &args.out)

@@ -1,11 +1,11 @@
 //! Coverage shown, not assumed: repeated small studies of a model whose output distribution is
 //! known, and repeated adaptive runs against their quoted numerical tolerance.
 
-use radforce::analysis::summarize;
 use radforce::dist::{Distribution, Trapezoidal};
 use radforce::engine::adaptive::simulate_adaptive;
 use radforce::engine::{Plan, simulate, with_threads};
 use radforce::scenario::load_str;
+use radforce::stats::summarize;
 use rand::SeedableRng;
 use rand_xoshiro::Xoshiro256PlusPlus;
 use statrs::distribution::{Binomial, DiscreteCDF};

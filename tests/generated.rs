@@ -3,11 +3,11 @@
 //! clean error; properties of the statistics hold on random samples.
 
 use proptest::prelude::*;
-use radforce::analysis::intervals::{coverage_intervals, q_index};
-use radforce::analysis::moments::Moments;
 use radforce::engine::{Plan, simulate};
 use radforce::model::formula::{Expr, Func, compile, parse};
 use radforce::scenario::load_str;
+use radforce::stats::intervals::{coverage_intervals, q_index};
+use radforce::stats::moments::Moments;
 
 fn seeds() -> &'static [String] {
     static SEEDS: std::sync::OnceLock<Vec<String>> = std::sync::OnceLock::new();

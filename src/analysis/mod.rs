@@ -3,26 +3,23 @@
 //! only format these.
 
 pub mod budget;
-pub mod histogram;
-pub mod intervals;
 pub mod lpu;
-pub mod moments;
 pub mod planning;
 pub mod sensitivity;
-pub mod summary;
-pub mod tail_buckets;
 pub mod validation;
 
 use crate::engine::adaptive::AdaptiveRun;
 use crate::engine::{self, Samples};
+pub use crate::engine::{MonteCarlo, Shape};
 use crate::scenario::{InputQuantity, Study};
+pub use crate::stats::Summary;
+use crate::stats::moments::CoMoments;
+use crate::stats::numerical_tolerance;
 use crate::units::{Dimension, DisplayUnit};
 use budget::BudgetRow;
 use lpu::MeasurandLpu;
-use moments::CoMoments;
 use rayon::prelude::*;
-pub use summary::{Summary, summarize};
-use validation::{Validation, numerical_tolerance, validate};
+use validation::{Validation, validate};
 
 /// The LPU validated against the Monte Carlo result (JCGM 101 clause 8), first order and with
 /// the higher-order terms.
@@ -258,105 +255,6 @@ pub fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
 /// correlations.
 pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>) -> Findings {
     findings_from(study, &MonteCarlo::from_samples(study, samples), adaptive)
-}
-
-/// The shape of a sampled distribution, for figures.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Shape {
-    /// The histogram of the values.
-    pub histogram: histogram::Histogram,
-    /// A smooth density: a kernel estimate for a measurand, the stated density for an input.
-    pub density: Vec<(f64, f64)>,
-}
-
-/// Bins of a measurand's histogram.
-pub const MEASURAND_BINS: usize = 100;
-/// Bins of an input's histogram.
-pub const INPUT_BINS: usize = 60;
-
-fn measurand_shape(values: &[f64], s: &Summary) -> Option<Shape> {
-    let (a, b) = s.symmetric_interval;
-    let w = b - a;
-    if w.is_nan() || w <= 0.0 {
-        return None;
-    }
-    let (lo, hi) = (a - 0.6 * w, b + 0.6 * w);
-    Some(Shape {
-        histogram: histogram::Histogram::of(values, lo, hi, MEASURAND_BINS),
-        density: histogram::kernel_density(values, s.standard_uncertainty, lo, hi, 200),
-    })
-}
-
-fn input_shape(values: &[f64], q: &InputQuantity) -> Option<Shape> {
-    let crate::scenario::Law::Distributed(d) = &q.law else {
-        return None;
-    };
-    let (lo, hi) = (d.quantile(0.001), d.quantile(0.999));
-    if hi.is_nan() || lo.is_nan() || hi <= lo {
-        return None;
-    }
-    let density = (0..200)
-        .map(|j| {
-            let x = lo + (hi - lo) * j as f64 / 199.0;
-            (x, d.pdf(x))
-        })
-        .collect();
-    Some(Shape {
-        histogram: histogram::Histogram::of(values, lo, hi, INPUT_BINS),
-        density,
-    })
-}
-
-/// The Monte Carlo result of a run, whether its values were kept in memory, streamed, or made by
-/// shards on several machines: what the findings need and nothing more.
-#[derive(Clone, Debug, PartialEq)]
-pub struct MonteCarlo {
-    /// Trials M.
-    pub trials: u64,
-    /// Per measurand.
-    pub summaries: Vec<Summary>,
-    /// Joint moments of each pair of measurands (engine order).
-    pub measurand_pairs: Vec<CoMoments>,
-    /// Joint moments of each correlated input pair.
-    pub input_pairs: Vec<CoMoments>,
-    /// Shapes of the measurands' distributions (when their values were in memory).
-    pub shapes: Vec<Option<Shape>>,
-    /// Shapes of the inputs' sampled distributions (when their columns were kept).
-    pub input_shapes: Vec<Option<Shape>>,
-}
-
-impl MonteCarlo {
-    /// From values held in memory; the measurands are summarised in parallel.
-    pub fn from_samples(study: &Study, samples: &Samples) -> MonteCarlo {
-        let summaries: Vec<Summary> = samples
-            .measurands
-            .par_iter()
-            .zip(samples.moments.par_iter())
-            .map(|(col, mo)| summarize(col, mo, study.coverage))
-            .collect();
-        let shapes = samples
-            .measurands
-            .iter()
-            .zip(&summaries)
-            .map(|(col, s)| measurand_shape(col, s))
-            .collect();
-        let input_shapes = match &samples.inputs {
-            Some(cols) => cols
-                .iter()
-                .zip(&study.inputs)
-                .map(|(c, q)| input_shape(c, q))
-                .collect(),
-            None => vec![None; study.inputs.len()],
-        };
-        MonteCarlo {
-            trials: samples.trials as u64,
-            summaries,
-            measurand_pairs: samples.measurand_pairs.clone(),
-            input_pairs: samples.input_pairs.clone(),
-            shapes,
-            input_shapes,
-        }
-    }
 }
 
 /// Summarise a run from its Monte Carlo result.

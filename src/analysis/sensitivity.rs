@@ -151,7 +151,7 @@ pub fn spearman(x: &[f64], y: &[f64]) -> Option<f64> {
 
 /// Spearman's correlation of columns already ranked.
 pub fn spearman_ranked(rx: &[f64], ry: &[f64]) -> Option<f64> {
-    super::moments::CoMoments::of(rx, ry).correlation()
+    crate::stats::moments::CoMoments::of(rx, ry).correlation()
 }
 
 /// The ranks of several columns, in parallel.

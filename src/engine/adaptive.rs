@@ -11,10 +11,10 @@
 //! discarded, so the outcome depends on the seed only.
 
 use super::{CHUNK_TRIALS, Plan, Samples, simulate};
-use crate::analysis::summary::{Summary, summarize};
-use crate::analysis::validation::numerical_tolerance;
 use crate::error::RunError;
 use crate::scenario::{Adaptive, Study, adaptive_batch_trials};
+use crate::stats::numerical_tolerance;
+use crate::stats::summary::{Summary, summarize};
 use rayon::prelude::*;
 
 /// The six statistics of one batch for one measurand: estimate, u, and the ends of the

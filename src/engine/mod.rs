@@ -10,15 +10,18 @@ pub mod adaptive;
 pub mod columns;
 pub mod memory;
 pub mod progress;
+pub mod result;
 pub mod sampling;
 pub mod sensitivity;
 pub mod stream;
 pub mod streaming;
 pub mod tails;
 
-use crate::analysis::moments::{CoMoments, Moments, joint_moments};
+pub use result::{MonteCarlo, Shape};
+
 use crate::error::RunError;
 use crate::scenario::Study;
+use crate::stats::moments::{CoMoments, Moments, joint_moments};
 use rayon::prelude::*;
 use std::sync::atomic::{AtomicU64, Ordering};
 

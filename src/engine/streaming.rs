@@ -17,14 +17,14 @@
 //! and its measurand passed again. Measurands whose tails do not fit the memory budget together
 //! are passed one at a time.
 
+use super::MonteCarlo;
 use super::tails::{TailCollector, thresholds};
 use super::{ChunkSummary, Plan, merge_chunks, stream_chunks};
-use crate::analysis::MonteCarlo;
-use crate::analysis::intervals::{CoverageIntervals, q_index};
-use crate::analysis::summary::{Summary, from_parts};
-use crate::analysis::tail_buckets::intervals_from_unsorted_tails;
 use crate::error::RunError;
 use crate::scenario::Study;
+use crate::stats::intervals::{CoverageIntervals, q_index};
+use crate::stats::summary::{Summary, from_parts};
+use crate::stats::tail_buckets::intervals_from_unsorted_tails;
 use rayon::prelude::*;
 
 /// Subsample size per measurand aimed at in pass 1 of a two-pass run (fewer when a quarter of
@@ -60,7 +60,7 @@ fn expected_tail_values(n: usize, k: usize, m: u64, sigmas: f64) -> u64 {
 /// Memory the two tails of one measurand take at their peak: the values and the buckets that
 /// find the intervals in them.
 fn expected_tail_bytes(n: usize, k: usize, m: u64, sigmas: f64) -> u64 {
-    let per_value = 8.0 + crate::analysis::tail_buckets::BYTES_PER_VALUE;
+    let per_value = 8.0 + crate::stats::tail_buckets::BYTES_PER_VALUE;
     (expected_tail_values(n, k, m, sigmas) as f64 * per_value).ceil() as u64
 }
 

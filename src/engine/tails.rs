@@ -8,7 +8,7 @@
 //! their values, and however many values tie at a threshold (a measurand that is constant
 //! costs two counters, not M values).
 
-use crate::analysis::intervals::sort_finite;
+use crate::stats::intervals::sort_finite;
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicU64, Ordering};
 
@@ -93,7 +93,7 @@ impl TailCollector {
 
     /// Two unsorted lists: one whose k smallest values are the k smallest offered (the others
     /// larger), one whose k largest are the k largest offered, for
-    /// [`intervals_from_unsorted_tails`](crate::analysis::tail_buckets::intervals_from_unsorted_tails);
+    /// [`intervals_from_unsorted_tails`](crate::stats::tail_buckets::intervals_from_unsorted_tails);
     /// `None` when a threshold was too tight. The values counted at a threshold are put in as
     /// copies of it, at most k of them (no more can be among the k).
     pub fn finish_unsorted(self, k: usize) -> Option<(Vec<f64>, Vec<f64>)> {

@@ -10,6 +10,9 @@ use crate::engine::{self, Plan, Samples, adaptive};
 use crate::error::{Error, InputError};
 use crate::scenario::{Law, Study};
 
+pub mod output;
+pub mod shard;
+
 /// How to run a study.
 #[derive(Clone, Copy, Debug)]
 pub struct RunOptions {

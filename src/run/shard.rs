@@ -12,13 +12,13 @@
 //! little-endian f64: for each measurand its low tail then its high tail, of the lengths the
 //! header gives.
 
-use crate::analysis::MonteCarlo;
-use crate::analysis::intervals::{intervals_from_tails, merge_tails, q_index, tails};
-use crate::analysis::moments::{CoMoments, Moments};
-use crate::analysis::summary::from_parts;
+use crate::engine::MonteCarlo;
 use crate::engine::{ChunkSummary, Samples, merge_chunks};
 use crate::error::{Error, InputError};
 use crate::scenario::Study;
+use crate::stats::intervals::{intervals_from_tails, merge_tails, q_index, tails};
+use crate::stats::moments::{CoMoments, Moments};
+use crate::stats::summary::from_parts;
 use serde_json::{Value, json};
 
 const MAGIC: &[u8] = b"radforce-part 1\n";

@@ -242,7 +242,7 @@ fn intervals_and_sorted(low: &[f64], high: &[f64], m: usize, p: f64) -> (Coverag
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::analysis::intervals::intervals_from_tails;
+    use crate::stats::intervals::intervals_from_tails;
 
     fn sorted_tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
         let mut y = values.to_vec();
