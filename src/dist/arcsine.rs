@@ -1,6 +1,6 @@
 //! Arcsine (U-shaped) distribution U(a, b) (JCGM 101:2008, 6.4.6).
 
-use super::{Family, ParameterError, require_ordered, uniform01};
+use super::{Family, ParameterError, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 use std::f64::consts::PI;
 
@@ -23,6 +23,14 @@ impl Arcsine {
 }
 
 impl Family for Arcsine {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "arcsine",
+        aliases: &["u-shaped"],
+        params: &[("min", ParamKind::Quantity), ("max", ParamKind::Quantity)],
+        example: "dist = \"arcsine\", min = \"-2 urad\", max = \"2 urad\"",
+        type_b_dof: true,
+        build: |p| Ok(Arcsine::new(p.numbers[0], p.numbers[1])?.into()),
+    }];
     fn mean(&self) -> f64 {
         0.5 * (self.min + self.max)
     }
@@ -48,5 +56,13 @@ impl Family for Arcsine {
         } else {
             1.0 / (PI * self.half() * (1.0 - t * t).sqrt())
         }
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let delta = mean - self.mean();
+        Ok(Arcsine::new(self.min + delta, self.max + delta)?.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let (a, b) = super::narrowed_limits(self.min, self.max, factor);
+        Ok(Arcsine::new(a, b)?.into())
     }
 }

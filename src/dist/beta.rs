@@ -1,6 +1,6 @@
 //! Beta distribution scaled to [min, max], for bounded quantities such as a reflectance.
 
-use super::{Family, ParameterError, invalid, require_ordered, require_positive};
+use super::{Family, ParameterError, invalid, require_ordered, require_positive, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 use rand_distr::Distribution as _;
 use statrs::distribution::{Continuous, ContinuousCDF};
@@ -50,6 +50,22 @@ impl BetaScaled {
 }
 
 impl Family for BetaScaled {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "beta",
+        aliases: &[],
+        params: &[
+            ("alpha", ParamKind::Pure),
+            ("beta", ParamKind::Pure),
+            ("min", ParamKind::Quantity),
+            ("max", ParamKind::Quantity),
+        ],
+        example: "dist = \"beta\", alpha = 8, beta = 2, min = 0.999, max = 1",
+        type_b_dof: true,
+        build: |p| {
+            let n = p.numbers;
+            Ok(BetaScaled::new(n[0], n[1], n[2], n[3])?.into())
+        },
+    }];
     fn mean(&self) -> f64 {
         self.min + self.width() * self.alpha / (self.alpha + self.beta)
     }
@@ -81,5 +97,20 @@ impl Family for BetaScaled {
         } else {
             self.reference.pdf(t) / self.width()
         }
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let delta = mean - self.mean();
+        Ok(BetaScaled::new(self.alpha, self.beta, self.min + delta, self.max + delta)?.into())
+    }
+    /// The support scaled about the mean: the variance goes as the square of the width.
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let m = self.mean();
+        Ok(BetaScaled::new(
+            self.alpha,
+            self.beta,
+            m - (m - self.min) / factor,
+            m + (self.max - m) / factor,
+        )?
+        .into())
     }
 }

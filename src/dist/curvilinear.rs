@@ -2,7 +2,7 @@
 //! within +-d (JCGM 101:2008, 6.4.3).
 
 use super::{
-    Family, ParameterError, invalid, invert_cdf, require_finite, require_ordered, uniform01,
+    Family, ParameterError, invalid, invert_cdf, require_finite, require_ordered, uniform01, Distribution, FamilySpec, ParamKind,
 };
 use rand::Rng;
 
@@ -63,6 +63,20 @@ impl CurvilinearTrapezoid {
 }
 
 impl Family for CurvilinearTrapezoid {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "curvilinear-trapezoid",
+        aliases: &[],
+        params: &[
+            ("min", ParamKind::Quantity),
+            ("max", ParamKind::Quantity),
+            ("limit_spread", ParamKind::Quantity),
+        ],
+        example: "dist = \"curvilinear-trapezoid\", min = \"0.9 mm\", max = \"1.1 mm\", limit_spread = \"0.02 mm\"",
+        type_b_dof: true,
+        build: |p| {
+            Ok(CurvilinearTrapezoid::new(p.numbers[0], p.numbers[1], p.numbers[2])?.into())
+        },
+    }];
     fn mean(&self) -> f64 {
         self.centre()
     }
@@ -104,5 +118,13 @@ impl Family for CurvilinearTrapezoid {
         } else {
             0.0
         }
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let delta = mean - self.mean();
+        Ok(CurvilinearTrapezoid::new(self.min + delta, self.max + delta, self.spread)?.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let (a, b) = super::narrowed_limits(self.min, self.max, factor);
+        Ok(CurvilinearTrapezoid::new(a, b, self.spread / factor)?.into())
     }
 }

@@ -1,7 +1,7 @@
 //! Exponential distribution with a given mean (JCGM 101:2008, 6.4.10): the maximum-entropy
 //! choice for a non-negative quantity of which only the estimate is known.
 
-use super::{Family, ParameterError, require_positive};
+use super::{Family, ParameterError, require_positive, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 use rand_distr::{Distribution as _, Exp1};
 
@@ -21,6 +21,14 @@ impl Exponential {
 }
 
 impl Family for Exponential {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "exponential",
+        aliases: &[],
+        params: &[("mean", ParamKind::Quantity)],
+        example: "dist = \"exponential\", mean = \"2 nN\"",
+        type_b_dof: true,
+        build: |p| Ok(Exponential::new(p.numbers[0])?.into()),
+    }];
     fn mean(&self) -> f64 {
         self.mean
     }
@@ -48,5 +56,14 @@ impl Family for Exponential {
         } else {
             (-x / self.mean).exp() / self.mean
         }
+    }
+    /// Scaled: its spread is its mean.
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        Ok(Exponential::new(mean)?.into())
+    }
+    /// Its spread is its mean, so it becomes the gamma of the same mean with shape factor^2.
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let f2 = factor * factor;
+        Ok(super::GammaDist::new(f2, self.mean / f2)?.into())
     }
 }

@@ -1,6 +1,6 @@
 //! Gamma distribution with shape and scale (JCGM 101:2008, 6.4.11; counts q: shape q + 1).
 
-use super::{Family, ParameterError, require_positive};
+use super::{Family, ParameterError, require_positive, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 use rand_distr::Distribution as _;
 use statrs::distribution::{Continuous, ContinuousCDF};
@@ -40,6 +40,14 @@ impl GammaDist {
 }
 
 impl Family for GammaDist {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "gamma",
+        aliases: &[],
+        params: &[("shape", ParamKind::Pure), ("scale", ParamKind::Quantity)],
+        example: "dist = \"gamma\", shape = 3, scale = \"1 nN\"",
+        type_b_dof: true,
+        build: |p| Ok(GammaDist::new(p.numbers[0], p.numbers[1])?.into()),
+    }];
     fn mean(&self) -> f64 {
         self.shape * self.scale
     }
@@ -58,5 +66,14 @@ impl Family for GammaDist {
     }
     fn pdf(&self, x: f64) -> f64 {
         if x < 0.0 { 0.0 } else { self.reference.pdf(x) }
+    }
+    /// Scaled, keeping the shape (and so the relative spread).
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        Ok(GammaDist::new(self.shape, self.scale * (mean / self.mean()))?.into())
+    }
+    /// The same mean with shape x factor^2.
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let f2 = factor * factor;
+        Ok(GammaDist::new(self.shape * f2, self.scale / f2)?.into())
     }
 }

@@ -1,7 +1,7 @@
 //! Lognormal distribution given by the mean and standard deviation of the quantity itself.
 
 use super::special::{std_normal_cdf, std_normal_pdf, std_normal_quantile};
-use super::{Family, ParameterError, require_positive};
+use super::{Family, ParameterError, require_positive, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
 
@@ -31,6 +31,14 @@ impl LogNormal {
 }
 
 impl Family for LogNormal {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "lognormal",
+        aliases: &[],
+        params: &[("mean", ParamKind::Quantity), ("sd", ParamKind::Quantity)],
+        example: "dist = \"lognormal\", mean = \"300 s\", sd = \"2 s\"",
+        type_b_dof: true,
+        build: |p| Ok(LogNormal::new(p.numbers[0], p.numbers[1])?.into()),
+    }];
     fn mean(&self) -> f64 {
         self.mean
     }
@@ -58,5 +66,12 @@ impl Family for LogNormal {
         } else {
             std_normal_pdf((x.ln() - self.mu) / self.sigma) / (x * self.sigma)
         }
+    }
+    /// Scaled, keeping the relative spread.
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        Ok(LogNormal::new(mean, self.sd * (mean / self.mean()))?.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        Ok(LogNormal::new(self.mean, self.sd / factor)?.into())
     }
 }

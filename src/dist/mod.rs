@@ -1,44 +1,19 @@
 //! Probability distributions for input quantities (JCGM 101:2008, 6.4 and Table 1, and beyond
 //! it: truncated normal, beta, lognormal).
 //!
-//! Each family lives in its own file, implements [`Family`], and is validated when it is built
-//! (a negative spread or `min >= max` is an error, never clamped). [`Distribution`] is the closed
-//! set of families a scenario can name; the engine fills whole blocks of trials through
-//! [`Distribution::fill`], so the per-family sampler is inlined in a tight loop.
-//!
-//! To add a family: write `src/dist/<name>.rs` with a struct, a validating `new`, and a
-//! [`Family`] impl; add a variant to [`Distribution`] and to the `dispatch!` macro; teach
-//! `scenario::inputs` its parameter names; add its checks to `tests/distributions.rs`.
+//! Each family lives in its own file and describes itself: the names a scenario may give it, its
+//! parameters with an example line, how it is built from them (validated: a negative spread or
+//! `min >= max` is an error, never clamped), how it moves to a new estimate (sweeps) and narrows
+//! (plans), and its moments, sampler, quantile and density ([`Family`]). The one list in
+//! [`families!`](crate::dist) below makes the closed enum [`Distribution`] the engine dispatches
+//! on once per block (so each sampler is inlined in a tight loop), the scenario reader's table of
+//! names ([`families`]) and the JSON Schema. To add a family: write `src/dist/<name>.rs` with a
+//! struct, a validating `new` and an `impl Family` (see `rectangular.rs`), and add one line to
+//! the list; `tests/distributions.rs` then checks it against a reference table.
 
 use rand::Rng;
 
-mod arcsine;
-mod beta;
-mod curvilinear;
-mod exponential;
-mod gamma;
-mod lognormal;
-mod normal;
-mod rectangular;
 pub mod special;
-mod student_t;
-mod transform;
-mod trapezoidal;
-mod triangular;
-mod truncated_normal;
-
-pub use arcsine::Arcsine;
-pub use beta::BetaScaled;
-pub use curvilinear::CurvilinearTrapezoid;
-pub use exponential::Exponential;
-pub use gamma::GammaDist;
-pub use lognormal::LogNormal;
-pub use normal::Normal;
-pub use rectangular::Rectangular;
-pub use student_t::{ScaledT, T_QUANTILE_NORMAL_ABOVE, t_quantile as student_t_quantile};
-pub use trapezoidal::Trapezoidal;
-pub use triangular::Triangular;
-pub use truncated_normal::TruncatedNormal;
 
 /// A parameter that makes a distribution impossible, with the reason in words.
 #[derive(Clone, Debug, PartialEq, thiserror::Error)]
@@ -57,8 +32,53 @@ pub(crate) fn invalid(parameter: &'static str, reason: impl Into<String>) -> Par
     }
 }
 
+/// How a family's parameter is written in a scenario.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ParamKind {
+    /// A quantity with the input's dimension ("2 mm").
+    Quantity,
+    /// A pure number (shape, alpha, beta, dof).
+    Pure,
+    /// An array of quantities (readings).
+    Quantities,
+}
+
+/// The parameter values read from a scenario, SI, in the order of [`FamilySpec::params`]: one
+/// number per `Quantity` or `Pure` parameter in `numbers`, the array of a `Quantities` one in
+/// `list`.
+#[derive(Clone, Copy, Debug)]
+pub struct ParamValues<'a> {
+    /// The single numbers, in parameter order.
+    pub numbers: &'a [f64],
+    /// The values of the array parameter, if the family has one.
+    pub list: &'a [f64],
+}
+
+/// A family as a scenario names it.
+#[derive(Clone, Copy, Debug)]
+pub struct FamilySpec {
+    /// The name in `dist = "..."`.
+    pub name: &'static str,
+    /// Other names accepted for it (JCGM 101 Table 1 gives some families two).
+    pub aliases: &'static [&'static str],
+    /// Its parameters, in the order `build` reads them.
+    pub params: &'static [(&'static str, ParamKind)],
+    /// A valid table line, for messages, the schema and the starter file.
+    pub example: &'static str,
+    /// Whether a Type B `dof` key may be given (not for families that carry their own).
+    pub type_b_dof: bool,
+    /// Build the distribution from its parameter values.
+    pub build: fn(&ParamValues<'_>) -> Result<Distribution, ParameterError>,
+}
+
 /// What every distribution family provides.
-pub trait Family {
+pub trait Family: Sized {
+    /// How scenarios name it (usually one spec; the t distribution has two, `t` and `readings`).
+    const SPECS: &'static [FamilySpec];
+    /// Its name as written in a scenario's `dist` key.
+    fn name(&self) -> &'static str {
+        Self::SPECS[0].name
+    }
     /// Expectation of the distribution.
     fn mean(&self) -> f64;
     /// Variance of the distribution (may be infinite, e.g. t with 2 or fewer degrees of freedom).
@@ -75,6 +95,13 @@ pub trait Family {
     fn degrees_of_freedom(&self) -> Option<f64> {
         None
     }
+    /// The same family moved so that its expectation is `mean` (a sweep point): families of
+    /// location shift every parameter of place by the same amount; families on (0, inf) whose
+    /// spread follows the mean scale instead, keeping their relative spread.
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError>;
+    /// The distribution with its standard deviation divided by `factor` (> 0, checked by the
+    /// caller) about the same mean (a plan): spreads, half-widths and scales are divided.
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError>;
 }
 
 /// A standard uniform draw in [0, 1) with 53 random bits.
@@ -89,127 +116,148 @@ pub fn uniform_open01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     ((rng.next_u64() >> 11) as f64 + 0.5) * (1.0 / (1u64 << 53) as f64)
 }
 
-/// The distribution families a scenario can name.
-#[derive(Clone, Debug, PartialEq)]
-pub enum Distribution {
-    /// Gaussian N(mean, sd^2) (JCGM 101 6.4.7).
-    Normal(Normal),
-    /// Rectangular R(a, b) (JCGM 101 6.4.2).
-    Rectangular(Rectangular),
-    /// Symmetric triangular T(a, b) (JCGM 101 6.4.5).
-    Triangular(Triangular),
-    /// Symmetric trapezoidal with top-to-base ratio beta (JCGM 101 6.4.4).
-    Trapezoidal(Trapezoidal),
-    /// Curvilinear trapezoid: rectangular with inexactly known limits (JCGM 101 6.4.3).
-    CurvilinearTrapezoid(CurvilinearTrapezoid),
-    /// Arcsine (U-shaped) U(a, b) (JCGM 101 6.4.6).
-    Arcsine(Arcsine),
-    /// Scaled and shifted t (JCGM 101 6.4.9), also built from repeated readings.
-    T(ScaledT),
-    /// Exponential with a given mean (JCGM 101 6.4.10).
-    Exponential(Exponential),
-    /// Gamma with shape and scale (JCGM 101 6.4.11).
-    Gamma(GammaDist),
-    /// Normal truncated to [min, max].
-    TruncatedNormal(TruncatedNormal),
-    /// Beta(alpha, beta) scaled to [min, max].
-    Beta(BetaScaled),
-    /// Lognormal with the given mean and standard deviation of the quantity itself.
-    LogNormal(LogNormal),
-}
+/// The one list of families: each line is `Variant(module::Type)`, in the order scenarios,
+/// messages and the schema show them. It declares the modules, the enum [`Distribution`] with
+/// its dispatch, and [`families`].
+macro_rules! families {
+    ($($(#[$doc:meta])* $variant:ident($module:ident::$ty:ident),)*) => {
+        $(mod $module; pub use $module::$ty;)*
 
-macro_rules! dispatch {
-    ($self:expr, $d:ident => $body:expr) => {
-        match $self {
-            Distribution::Normal($d) => $body,
-            Distribution::Rectangular($d) => $body,
-            Distribution::Triangular($d) => $body,
-            Distribution::Trapezoidal($d) => $body,
-            Distribution::CurvilinearTrapezoid($d) => $body,
-            Distribution::Arcsine($d) => $body,
-            Distribution::T($d) => $body,
-            Distribution::Exponential($d) => $body,
-            Distribution::Gamma($d) => $body,
-            Distribution::TruncatedNormal($d) => $body,
-            Distribution::Beta($d) => $body,
-            Distribution::LogNormal($d) => $body,
+        /// The distribution families a scenario can name.
+        #[derive(Clone, Debug, PartialEq)]
+        pub enum Distribution {
+            $($(#[$doc])* $variant($ty),)*
+        }
+
+        $(impl From<$ty> for Distribution {
+            fn from(d: $ty) -> Distribution {
+                Distribution::$variant(d)
+            }
+        })*
+
+        /// Every family a scenario can name, in the order of the list.
+        pub fn families() -> impl Iterator<Item = &'static FamilySpec> {
+            [$(<$ty as Family>::SPECS),*].into_iter().flatten()
+        }
+
+        impl Distribution {
+            /// The family's name as written in a scenario's `dist` key.
+            pub fn family_name(&self) -> &'static str {
+                match self { $(Distribution::$variant(d) => d.name(),)* }
+            }
+
+            /// Fill `out` with independent draws, in order. One match per block; the family's
+            /// sampler is inlined in the loop.
+            pub fn fill<R: Rng + Clone>(&self, rng: &mut R, out: &mut [f64]) {
+                // Drawn from a local copy of the generator, written back after: the same
+                // stream, with the generator's state kept in registers through the loop.
+                let mut local = rng.clone();
+                match self {
+                    $(Distribution::$variant(d) => {
+                        for x in out.iter_mut() {
+                            *x = d.sample(&mut local);
+                        }
+                    })*
+                }
+                *rng = local;
+            }
+
+            /// One draw.
+            pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+                match self { $(Distribution::$variant(d) => d.sample(rng),)* }
+            }
+
+            /// Expectation.
+            pub fn mean(&self) -> f64 {
+                match self { $(Distribution::$variant(d) => d.mean(),)* }
+            }
+
+            /// Variance.
+            pub fn variance(&self) -> f64 {
+                match self { $(Distribution::$variant(d) => d.variance(),)* }
+            }
+
+            /// Quantile at probability `p` in (0, 1).
+            pub fn quantile(&self, p: f64) -> f64 {
+                match self { $(Distribution::$variant(d) => d.quantile(p),)* }
+            }
+
+            /// Distribution function.
+            pub fn cdf(&self, x: f64) -> f64 {
+                match self { $(Distribution::$variant(d) => d.cdf(x),)* }
+            }
+
+            /// Probability density.
+            pub fn pdf(&self, x: f64) -> f64 {
+                match self { $(Distribution::$variant(d) => d.pdf(x),)* }
+            }
+
+            /// Degrees of freedom carried by the family (t and readings).
+            pub fn degrees_of_freedom(&self) -> Option<f64> {
+                match self { $(Distribution::$variant(d) => d.degrees_of_freedom(),)* }
+            }
+
+            /// The same distribution moved so that its expectation is `mean` (see
+            /// [`Family::with_mean`]).
+            pub fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+                match self { $(Distribution::$variant(d) => d.with_mean(mean),)* }
+            }
+
+            /// The same distribution with its standard deviation divided by `factor` (> 0),
+            /// same mean (see [`Family::narrowed`]).
+            pub fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+                if !(factor > 0.0 && factor.is_finite()) {
+                    return Err(invalid(
+                        "factor",
+                        format!("an improvement factor must be positive and finite (got {factor})"),
+                    ));
+                }
+                match self { $(Distribution::$variant(d) => d.narrowed(factor),)* }
+            }
         }
     };
 }
 
+families! {
+    /// Gaussian N(mean, sd^2) (JCGM 101 6.4.7).
+    Normal(normal::Normal),
+    /// Rectangular R(a, b) (JCGM 101 6.4.2).
+    Rectangular(rectangular::Rectangular),
+    /// Symmetric triangular T(a, b) (JCGM 101 6.4.5).
+    Triangular(triangular::Triangular),
+    /// Symmetric trapezoidal with top-to-base ratio beta (JCGM 101 6.4.4).
+    Trapezoidal(trapezoidal::Trapezoidal),
+    /// Curvilinear trapezoid: rectangular with inexactly known limits (JCGM 101 6.4.3).
+    CurvilinearTrapezoid(curvilinear::CurvilinearTrapezoid),
+    /// Arcsine (U-shaped) U(a, b) (JCGM 101 6.4.6).
+    Arcsine(arcsine::Arcsine),
+    /// Scaled and shifted t (JCGM 101 6.4.9), also built from repeated readings.
+    T(student_t::ScaledT),
+    /// Exponential with a given mean (JCGM 101 6.4.10).
+    Exponential(exponential::Exponential),
+    /// Gamma with shape and scale (JCGM 101 6.4.11).
+    Gamma(gamma::GammaDist),
+    /// Normal truncated to [min, max].
+    TruncatedNormal(truncated_normal::TruncatedNormal),
+    /// Beta(alpha, beta) scaled to [min, max].
+    Beta(beta::BetaScaled),
+    /// Lognormal with the given mean and standard deviation of the quantity itself.
+    LogNormal(lognormal::LogNormal),
+}
+
+pub use student_t::{T_QUANTILE_NORMAL_ABOVE, t_quantile as student_t_quantile};
+
 impl Distribution {
-    /// The family's name as written in a scenario's `dist` key.
-    pub fn family_name(&self) -> &'static str {
-        match self {
-            Distribution::Normal(_) => "normal",
-            Distribution::Rectangular(_) => "rectangular",
-            Distribution::Triangular(_) => "triangular",
-            Distribution::Trapezoidal(_) => "trapezoidal",
-            Distribution::CurvilinearTrapezoid(_) => "curvilinear-trapezoid",
-            Distribution::Arcsine(_) => "arcsine",
-            Distribution::T(t) if t.is_from_readings() => "readings",
-            Distribution::T(_) => "t",
-            Distribution::Exponential(_) => "exponential",
-            Distribution::Gamma(_) => "gamma",
-            Distribution::TruncatedNormal(_) => "truncated-normal",
-            Distribution::Beta(_) => "beta",
-            Distribution::LogNormal(_) => "lognormal",
-        }
-    }
-
-    /// Fill `out` with independent draws, in order. One match per block; the family's sampler
-    /// is inlined in the loop.
-    pub fn fill<R: Rng + Clone>(&self, rng: &mut R, out: &mut [f64]) {
-        // Drawn from a local copy of the generator, written back after: the same stream, with
-        // the generator's state kept in registers through the loop.
-        let mut local = rng.clone();
-        dispatch!(self, d => {
-            for x in out.iter_mut() {
-                *x = d.sample(&mut local);
-            }
-        });
-        *rng = local;
-    }
-
-    /// One draw.
-    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
-        dispatch!(self, d => d.sample(rng))
-    }
-
-    /// Expectation.
-    pub fn mean(&self) -> f64 {
-        dispatch!(self, d => d.mean())
-    }
-
-    /// Variance.
-    pub fn variance(&self) -> f64 {
-        dispatch!(self, d => d.variance())
-    }
-
     /// Standard deviation, the standard uncertainty of JCGM 101 (square root of the variance).
     pub fn standard_deviation(&self) -> f64 {
         self.variance().sqrt()
     }
+}
 
-    /// Quantile at probability `p` in (0, 1).
-    pub fn quantile(&self, p: f64) -> f64 {
-        dispatch!(self, d => d.quantile(p))
-    }
-
-    /// Distribution function.
-    pub fn cdf(&self, x: f64) -> f64 {
-        dispatch!(self, d => d.cdf(x))
-    }
-
-    /// Probability density.
-    pub fn pdf(&self, x: f64) -> f64 {
-        dispatch!(self, d => d.pdf(x))
-    }
-
-    /// Degrees of freedom carried by the family (t and readings).
-    pub fn degrees_of_freedom(&self) -> Option<f64> {
-        dispatch!(self, d => d.degrees_of_freedom())
-    }
+/// The family a scenario names by `name` or one of its aliases (case-insensitive).
+pub fn family_by_name(name: &str) -> Option<&'static FamilySpec> {
+    let lower = name.to_ascii_lowercase();
+    families().find(|f| f.name == lower || f.aliases.contains(&lower.as_str()))
 }
 
 /// Invert a continuous, non-decreasing distribution function by bisection on [lo, hi], to full
@@ -262,5 +310,67 @@ pub(crate) fn require_ordered(min: f64, max: f64) -> Result<(), ParameterError> 
             "max",
             format!("`min` must be less than `max` (got min = {min}, max = {max})"),
         ))
+    }
+}
+
+/// Limits [a, b] narrowed by `factor` about their centre (the half-width divided).
+pub(crate) fn narrowed_limits(min: f64, max: f64, factor: f64) -> (f64, f64) {
+    let c = 0.5 * (min + max);
+    let h = 0.5 * (max - min) / factor;
+    (c - h, c + h)
+}
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    fn all() -> Vec<Distribution> {
+        vec![
+            Distribution::Normal(Normal::new(2.0, 0.3).unwrap()),
+            Distribution::Rectangular(Rectangular::new(1.0, 3.0).unwrap()),
+            Distribution::Triangular(Triangular::new(1.0, 3.0).unwrap()),
+            Distribution::Trapezoidal(Trapezoidal::new(1.0, 3.0, 0.4).unwrap()),
+            Distribution::CurvilinearTrapezoid(CurvilinearTrapezoid::new(1.0, 3.0, 0.2).unwrap()),
+            Distribution::Arcsine(Arcsine::new(1.0, 3.0).unwrap()),
+            Distribution::T(ScaledT::new(2.0, 0.1, 9.0).unwrap()),
+            Distribution::Exponential(Exponential::new(2.0).unwrap()),
+            Distribution::Gamma(GammaDist::new(4.0, 0.5).unwrap()),
+            Distribution::TruncatedNormal(TruncatedNormal::new(2.0, 0.2, 1.5, 2.5).unwrap()),
+            Distribution::Beta(BetaScaled::new(3.0, 5.0, 1.0, 3.0).unwrap()),
+            Distribution::LogNormal(LogNormal::new(2.0, 0.3).unwrap()),
+        ]
+    }
+
+    // Moving keeps the spread (families of location) or the relative spread (families on
+    // (0, inf)); narrowing divides the standard deviation by the factor at the same mean
+    // (exactly, except a truncated normal, whose parent is narrowed).
+    #[test]
+    fn moved_and_narrowed() {
+        for d in all() {
+            let moved = d.with_mean(2.5).unwrap();
+            assert_relative_eq!(moved.mean(), 2.5, max_relative = 1e-12);
+            let relative = matches!(
+                d,
+                Distribution::Exponential(_) | Distribution::Gamma(_) | Distribution::LogNormal(_)
+            );
+            let expected_sd = if relative {
+                d.standard_deviation() * 2.5 / d.mean()
+            } else {
+                d.standard_deviation()
+            };
+            assert_relative_eq!(moved.standard_deviation(), expected_sd, max_relative = 1e-9);
+            let narrow = d.narrowed(4.0).unwrap();
+            assert_relative_eq!(narrow.mean(), d.mean(), max_relative = 1e-12);
+            if !matches!(d, Distribution::TruncatedNormal(_)) {
+                assert_relative_eq!(
+                    narrow.standard_deviation(),
+                    d.standard_deviation() / 4.0,
+                    max_relative = 1e-9
+                );
+            } else {
+                assert!(narrow.standard_deviation() < d.standard_deviation() / 3.0);
+            }
+        }
+        assert!(all()[0].narrowed(0.0).is_err());
     }
 }

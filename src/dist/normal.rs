@@ -1,7 +1,7 @@
 //! Gaussian distribution N(mu, sigma^2) (JCGM 101:2008, 6.4.7).
 
 use super::special::{std_normal_cdf, std_normal_pdf, std_normal_quantile};
-use super::{Family, ParameterError, require_finite, require_positive};
+use super::{Family, ParameterError, require_finite, require_positive, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
 
@@ -25,6 +25,14 @@ impl Normal {
 }
 
 impl Family for Normal {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "normal",
+        aliases: &["gaussian"],
+        params: &[("mean", ParamKind::Quantity), ("sd", ParamKind::Quantity)],
+        example: "dist = \"normal\", mean = \"45 deg\", sd = \"0.1 deg\"",
+        type_b_dof: true,
+        build: |p| Ok(Normal::new(p.numbers[0], p.numbers[1])?.into()),
+    }];
     fn mean(&self) -> f64 {
         self.mean
     }
@@ -44,5 +52,11 @@ impl Family for Normal {
     }
     fn pdf(&self, x: f64) -> f64 {
         std_normal_pdf((x - self.mean) / self.sd) / self.sd
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        Ok(Normal::new(mean, self.sd)?.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        Ok(Normal::new(self.mean, self.sd / factor)?.into())
     }
 }

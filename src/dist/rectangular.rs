@@ -1,6 +1,6 @@
 //! Rectangular (uniform) distribution R(a, b) (JCGM 101:2008, 6.4.2).
 
-use super::{Family, ParameterError, require_ordered, uniform01};
+use super::{Family, ParameterError, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 
 /// Rectangular on [min, max]: x = a + (b - a) r with r ~ R(0, 1); variance (b - a)^2 / 12.
@@ -19,6 +19,14 @@ impl Rectangular {
 }
 
 impl Family for Rectangular {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "rectangular",
+        aliases: &["uniform"],
+        params: &[("min", ParamKind::Quantity), ("max", ParamKind::Quantity)],
+        example: "dist = \"rectangular\", min = 0.9990, max = 0.9999",
+        type_b_dof: true,
+        build: |p| Ok(Rectangular::new(p.numbers[0], p.numbers[1])?.into()),
+    }];
     fn mean(&self) -> f64 {
         0.5 * (self.min + self.max)
     }
@@ -42,5 +50,13 @@ impl Family for Rectangular {
         } else {
             0.0
         }
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let delta = mean - self.mean();
+        Ok(Rectangular::new(self.min + delta, self.max + delta)?.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let (a, b) = super::narrowed_limits(self.min, self.max, factor);
+        Ok(Rectangular::new(a, b)?.into())
     }
 }

@@ -2,7 +2,7 @@
 //! built from a series of repeated readings.
 
 use super::special::std_normal_quantile;
-use super::{Family, ParameterError, invalid, require_finite, require_positive};
+use super::{Family, ParameterError, invalid, require_finite, require_positive, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
 use statrs::distribution::{Continuous, ContinuousCDF};
@@ -178,6 +178,31 @@ impl ScaledT {
 }
 
 impl Family for ScaledT {
+    const SPECS: &'static [FamilySpec] = &[
+        FamilySpec {
+            name: "t",
+            aliases: &["student-t"],
+            params: &[
+                ("mean", ParamKind::Quantity),
+                ("scale", ParamKind::Quantity),
+                ("dof", ParamKind::Pure),
+            ],
+            example: "dist = \"t\", mean = \"1.25 mm\", scale = \"0.01 mm\", dof = 9",
+            type_b_dof: false,
+            build: |p| Ok(ScaledT::new(p.numbers[0], p.numbers[1], p.numbers[2])?.into()),
+        },
+        FamilySpec {
+            name: "readings",
+            aliases: &[],
+            params: &[("values", ParamKind::Quantities)],
+            example: "dist = \"readings\", values = [\"1.251 mm\", \"1.248 mm\", \"1.255 mm\", \"1.250 mm\"]",
+            type_b_dof: false,
+            build: |p| Ok(ScaledT::from_readings(p.list)?.into()),
+        },
+    ];
+    fn name(&self) -> &'static str {
+        if self.is_from_readings() { "readings" } else { "t" }
+    }
     fn mean(&self) -> f64 {
         self.mean
     }
@@ -203,6 +228,16 @@ impl Family for ScaledT {
     }
     fn degrees_of_freedom(&self) -> Option<f64> {
         Some(self.dof)
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let mut t = ScaledT::new(mean, self.scale, self.dof)?;
+        t.readings = self.readings;
+        Ok(t.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let mut t = ScaledT::new(self.mean, self.scale / factor, self.dof)?;
+        t.readings = self.readings;
+        Ok(t.into())
     }
 }
 

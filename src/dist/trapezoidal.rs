@@ -1,6 +1,6 @@
 //! Symmetric trapezoidal distribution (JCGM 101:2008, 6.4.4).
 
-use super::{Family, ParameterError, invalid, require_finite, require_ordered, uniform01};
+use super::{Family, ParameterError, invalid, require_finite, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 
 /// Symmetric trapezoid on [min, max] whose top is `beta` times its base (0 <= beta <= 1;
@@ -40,6 +40,18 @@ impl Trapezoidal {
 }
 
 impl Family for Trapezoidal {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "trapezoidal",
+        aliases: &[],
+        params: &[
+            ("min", ParamKind::Quantity),
+            ("max", ParamKind::Quantity),
+            ("beta", ParamKind::Pure),
+        ],
+        example: "dist = \"trapezoidal\", min = \"0.9 mm\", max = \"1.1 mm\", beta = 0.5",
+        type_b_dof: true,
+        build: |p| Ok(Trapezoidal::new(p.numbers[0], p.numbers[1], p.numbers[2])?.into()),
+    }];
     fn mean(&self) -> f64 {
         0.5 * (self.min + self.max)
     }
@@ -96,5 +108,13 @@ impl Family for Trapezoidal {
         } else {
             h
         }
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let delta = mean - self.mean();
+        Ok(Trapezoidal::new(self.min + delta, self.max + delta, self.beta)?.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let (a, b) = super::narrowed_limits(self.min, self.max, factor);
+        Ok(Trapezoidal::new(a, b, self.beta)?.into())
     }
 }

@@ -1,6 +1,6 @@
 //! Symmetric triangular distribution T(a, b) (JCGM 101:2008, 6.4.5).
 
-use super::{Family, ParameterError, require_ordered, uniform01};
+use super::{Family, ParameterError, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
 use rand::Rng;
 
 /// Symmetric triangular on [min, max]: x = a + (b - a)(r1 + r2)/2; variance (b - a)^2 / 24.
@@ -19,6 +19,14 @@ impl Triangular {
 }
 
 impl Family for Triangular {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "triangular",
+        aliases: &[],
+        params: &[("min", ParamKind::Quantity), ("max", ParamKind::Quantity)],
+        example: "dist = \"triangular\", min = \"1.9 m\", max = \"2.1 m\"",
+        type_b_dof: true,
+        build: |p| Ok(Triangular::new(p.numbers[0], p.numbers[1])?.into()),
+    }];
     fn mean(&self) -> f64 {
         0.5 * (self.min + self.max)
     }
@@ -60,5 +68,13 @@ impl Family for Triangular {
         } else {
             (half - t) / (half * half)
         }
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let delta = mean - self.mean();
+        Ok(Triangular::new(self.min + delta, self.max + delta)?.into())
+    }
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        let (a, b) = super::narrowed_limits(self.min, self.max, factor);
+        Ok(Triangular::new(a, b)?.into())
     }
 }

@@ -5,7 +5,7 @@ use super::special::{
 };
 use super::{
     Family, ParameterError, invalid, require_finite, require_ordered, require_positive,
-    uniform_open01,
+    uniform_open01, Distribution, FamilySpec, ParamKind,
 };
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
@@ -78,6 +78,22 @@ impl TruncatedNormal {
 }
 
 impl Family for TruncatedNormal {
+    const SPECS: &'static [FamilySpec] = &[FamilySpec {
+        name: "truncated-normal",
+        aliases: &[],
+        params: &[
+            ("mean", ParamKind::Quantity),
+            ("sd", ParamKind::Quantity),
+            ("min", ParamKind::Quantity),
+            ("max", ParamKind::Quantity),
+        ],
+        example: "dist = \"truncated-normal\", mean = 0.9995, sd = 0.0003, min = 0, max = 1",
+        type_b_dof: true,
+        build: |p| {
+            let n = p.numbers;
+            Ok(TruncatedNormal::new(n[0], n[1], n[2], n[3])?.into())
+        },
+    }];
     fn mean(&self) -> f64 {
         let (pa, pb) = (std_normal_pdf(self.alpha), std_normal_pdf(self.beta));
         self.mean + self.sd * (pa - pb) / self.mass
@@ -134,5 +150,17 @@ impl Family for TruncatedNormal {
         } else {
             std_normal_pdf((x - self.mean) / self.sd) / (self.sd * self.mass)
         }
+    }
+    fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+        let delta = mean - self.mean();
+        Ok(
+            TruncatedNormal::new(self.mean + delta, self.sd, self.min + delta, self.max + delta)?
+                .into(),
+        )
+    }
+    /// The spread of the parent normal is divided (its own standard deviation then shrinks by
+    /// about `factor`).
+    fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+        Ok(TruncatedNormal::new(self.mean, self.sd / factor, self.min, self.max)?.into())
     }
 }

@@ -3,10 +3,7 @@
 
 use super::source::suggestion;
 use super::table::{Entry, Table, number_value, type_name};
-use crate::dist::{
-    Arcsine, BetaScaled, CurvilinearTrapezoid, Distribution, Exponential, GammaDist, LogNormal,
-    Normal, ParameterError, Rectangular, ScaledT, Trapezoidal, Triangular, TruncatedNormal,
-};
+use crate::dist::{self, Distribution, ParamKind, ParamValues, ParameterError};
 use crate::error::InputError;
 use crate::model::{ChainInput, Domain};
 use crate::units::{Dimension, DisplayUnit, parse_quantity};
@@ -84,127 +81,16 @@ impl InputQuantity {
     }
 }
 
-/// The kind of a distribution parameter.
-#[derive(Clone, Copy, PartialEq)]
-enum Param {
-    /// A quantity with the input's dimension ("2 mm").
-    Quantity,
-    /// A pure number (shape, alpha, beta, dof).
-    Pure,
-    /// An array of quantities (readings).
-    Quantities,
-}
-
-/// Families, their parameters and an example table line.
-/// A family: its name, its parameters, and an example table line.
-type FamilySpec = (&'static str, &'static [(&'static str, Param)], &'static str);
-
-const FAMILIES: &[FamilySpec] = &[
-    (
-        "normal",
-        &[("mean", Param::Quantity), ("sd", Param::Quantity)],
-        "dist = \"normal\", mean = \"45 deg\", sd = \"0.1 deg\"",
-    ),
-    (
-        "rectangular",
-        &[("min", Param::Quantity), ("max", Param::Quantity)],
-        "dist = \"rectangular\", min = 0.9990, max = 0.9999",
-    ),
-    (
-        "triangular",
-        &[("min", Param::Quantity), ("max", Param::Quantity)],
-        "dist = \"triangular\", min = \"1.9 m\", max = \"2.1 m\"",
-    ),
-    (
-        "trapezoidal",
-        &[
-            ("min", Param::Quantity),
-            ("max", Param::Quantity),
-            ("beta", Param::Pure),
-        ],
-        "dist = \"trapezoidal\", min = \"0.9 mm\", max = \"1.1 mm\", beta = 0.5",
-    ),
-    (
-        "curvilinear-trapezoid",
-        &[
-            ("min", Param::Quantity),
-            ("max", Param::Quantity),
-            ("limit_spread", Param::Quantity),
-        ],
-        "dist = \"curvilinear-trapezoid\", min = \"0.9 mm\", max = \"1.1 mm\", limit_spread = \"0.02 mm\"",
-    ),
-    (
-        "arcsine",
-        &[("min", Param::Quantity), ("max", Param::Quantity)],
-        "dist = \"arcsine\", min = \"-2 urad\", max = \"2 urad\"",
-    ),
-    (
-        "t",
-        &[
-            ("mean", Param::Quantity),
-            ("scale", Param::Quantity),
-            ("dof", Param::Pure),
-        ],
-        "dist = \"t\", mean = \"1.25 mm\", scale = \"0.01 mm\", dof = 9",
-    ),
-    (
-        "readings",
-        &[("values", Param::Quantities)],
-        "dist = \"readings\", values = [\"1.251 mm\", \"1.248 mm\", \"1.255 mm\", \"1.250 mm\"]",
-    ),
-    (
-        "exponential",
-        &[("mean", Param::Quantity)],
-        "dist = \"exponential\", mean = \"2 nN\"",
-    ),
-    (
-        "gamma",
-        &[("shape", Param::Pure), ("scale", Param::Quantity)],
-        "dist = \"gamma\", shape = 3, scale = \"1 nN\"",
-    ),
-    (
-        "truncated-normal",
-        &[
-            ("mean", Param::Quantity),
-            ("sd", Param::Quantity),
-            ("min", Param::Quantity),
-            ("max", Param::Quantity),
-        ],
-        "dist = \"truncated-normal\", mean = 0.9995, sd = 0.0003, min = 0, max = 1",
-    ),
-    (
-        "beta",
-        &[
-            ("alpha", Param::Pure),
-            ("beta", Param::Pure),
-            ("min", Param::Quantity),
-            ("max", Param::Quantity),
-        ],
-        "dist = \"beta\", alpha = 8, beta = 2, min = 0.999, max = 1",
-    ),
-    (
-        "lognormal",
-        &[("mean", Param::Quantity), ("sd", Param::Quantity)],
-        "dist = \"lognormal\", mean = \"300 s\", sd = \"2 s\"",
-    ),
-];
-
-/// Other names accepted for a family (JCGM 101 Table 1 gives both).
-const ALIASES: &[(&str, &str)] = &[
-    ("gaussian", "normal"),
-    ("uniform", "rectangular"),
-    ("u-shaped", "arcsine"),
-    ("student-t", "t"),
-];
-
 /// The names of all families, for messages.
 pub fn family_names() -> Vec<&'static str> {
-    FAMILIES.iter().map(|f| f.0).collect()
+    dist::families().map(|f| f.name).collect()
 }
 
 /// The example line of a family, for messages and the starter file.
 pub fn family_example(name: &str) -> &'static str {
-    FAMILIES.iter().find(|f| f.0 == name).map_or("", |f| f.2)
+    dist::families()
+        .find(|f| f.name == name)
+        .map_or("", |f| f.example)
 }
 
 /// What is known of the input's dimension while its parameters are read.
@@ -345,14 +231,9 @@ pub fn read_input(
         }
         (None, Some(d)) => {
             let written = d.string("dist = \"normal\"")?;
-            let lower = written.to_ascii_lowercase();
-            let canonical = ALIASES
-                .iter()
-                .find(|a| a.0 == lower)
-                .map_or(lower.as_str(), |a| a.1);
-            let Some((family, params, example)) = FAMILIES.iter().find(|f| f.0 == canonical) else {
+            let Some(spec) = dist::family_by_name(written) else {
                 let mut names = family_names();
-                names.extend(ALIASES.iter().map(|a| a.0));
+                names.extend(dist::families().flat_map(|f| f.aliases.iter().copied()));
                 return Err(d.error(
                     format!(
                         "unknown distribution {written:?}{}; known: {}",
@@ -362,11 +243,11 @@ pub fn read_input(
                     "dist = \"rectangular\"",
                 ));
             };
+            let (family, params, example) = (spec.name, spec.params, spec.example);
             units.example = example;
             let mut allowed: Vec<&str> = vec!["dist", "note"];
             allowed.extend(params.iter().map(|p| p.0));
-            let type_b_dof = !matches!(*family, "t" | "readings");
-            if type_b_dof {
+            if spec.type_b_dof {
                 allowed.push("dof");
             }
             table.check_keys(&allowed, example)?;
@@ -379,13 +260,13 @@ pub fn read_input(
                             "distribution {family:?} needs `{pname}` (its parameters: {})",
                             params.iter().map(|p| p.0).collect::<Vec<_>>().join(", ")
                         ),
-                        *example,
+                        example,
                     )
                 })?;
                 match kind {
-                    Param::Quantity => q.push(units.quantity(entry.value, &entry.path, src)?),
-                    Param::Pure => q.push(entry.number(example)?),
-                    Param::Quantities => {
+                    ParamKind::Quantity => q.push(units.quantity(entry.value, &entry.path, src)?),
+                    ParamKind::Pure => q.push(entry.number(example)?),
+                    ParamKind::Quantities => {
                         let items = entry.array(example)?;
                         for item in items {
                             readings.push(units.quantity(item, &entry.path, src)?);
@@ -393,25 +274,10 @@ pub fn read_input(
                     }
                 }
             }
-            let built = match *family {
-                "normal" => Normal::new(q[0], q[1]).map(Distribution::Normal),
-                "rectangular" => Rectangular::new(q[0], q[1]).map(Distribution::Rectangular),
-                "triangular" => Triangular::new(q[0], q[1]).map(Distribution::Triangular),
-                "trapezoidal" => Trapezoidal::new(q[0], q[1], q[2]).map(Distribution::Trapezoidal),
-                "curvilinear-trapezoid" => CurvilinearTrapezoid::new(q[0], q[1], q[2])
-                    .map(Distribution::CurvilinearTrapezoid),
-                "arcsine" => Arcsine::new(q[0], q[1]).map(Distribution::Arcsine),
-                "t" => ScaledT::new(q[0], q[1], q[2]).map(Distribution::T),
-                "readings" => ScaledT::from_readings(&readings).map(Distribution::T),
-                "exponential" => Exponential::new(q[0]).map(Distribution::Exponential),
-                "gamma" => GammaDist::new(q[0], q[1]).map(Distribution::Gamma),
-                "truncated-normal" => {
-                    TruncatedNormal::new(q[0], q[1], q[2], q[3]).map(Distribution::TruncatedNormal)
-                }
-                "beta" => BetaScaled::new(q[0], q[1], q[2], q[3]).map(Distribution::Beta),
-                "lognormal" => LogNormal::new(q[0], q[1]).map(Distribution::LogNormal),
-                other => unreachable!("family table and match disagree on {other}"),
-            };
+            let built = (spec.build)(&ParamValues {
+                numbers: &q,
+                list: &readings,
+            });
             let dist = built.map_err(|e| param_error(table, e, example))?;
             let dof = match (dist.degrees_of_freedom(), table.get("dof")) {
                 (Some(nu), _) => Some(nu),
@@ -565,9 +431,10 @@ pub fn input_schema() -> serde_json::Value {
         "properties": {"value": quantity, "note": {"type": "string"}},
         "additionalProperties": false,
     })];
-    for (family, params, example) in FAMILIES {
+    for spec in dist::families() {
+        let (family, params, example) = (spec.name, spec.params, spec.example);
         let mut names: Vec<&str> = vec![family];
-        names.extend(ALIASES.iter().filter(|a| a.1 == *family).map(|a| a.0));
+        names.extend(spec.aliases.iter().copied());
         let mut props = serde_json::Map::new();
         props.insert("dist".into(), json!({"enum": names}));
         props.insert("note".into(), json!({"type": "string"}));
@@ -577,13 +444,15 @@ pub fn input_schema() -> serde_json::Value {
             props.insert(
                 (*p).to_string(),
                 match kind {
-                    Param::Quantity => quantity.clone(),
-                    Param::Pure => json!({"type": "number"}),
-                    Param::Quantities => json!({"type": "array", "items": quantity, "minItems": 2}),
+                    ParamKind::Quantity => quantity.clone(),
+                    ParamKind::Pure => json!({"type": "number"}),
+                    ParamKind::Quantities => {
+                        json!({"type": "array", "items": quantity, "minItems": 2})
+                    }
                 },
             );
         }
-        if !matches!(*family, "t" | "readings") {
+        if spec.type_b_dof {
             props.insert("dof".into(), json!({"anyOf": [{"type": "number", "exclusiveMinimum": 0}, {"enum": ["inf", "infinite", "infinity"]}]}));
         }
         variants.push(json!({
