@@ -1,10 +1,10 @@
-//! Built-in measurement chains: named models over the `physics` functions, with the inputs
-//! they take and the measurands they give.
-//!
-//! To add a chain: describe its inputs and measurands in a `ChainSpec` constant, write its
-//! evaluation as a pure generic function in its own file under `model/`, add a [`ChainKind`]
-//! variant and wire it in [`ChainKind::spec`] and [`ChainKind::evaluate`].
+//! What a built-in measurement chain is: the [`Chain`] trait (its spec, its evaluation over the
+//! model's number type, its own noise terms and cross-checks), the description of its inputs and
+//! measurands, and the pieces every chain shares (the mirror and beam inputs and their checks).
+//! The chains themselves live in their own files and are listed once in `model/mod.rs`.
 
+use crate::physics::beam::{aperture_radius_for_fraction, gaussian_aperture_fraction};
+use crate::physics::noise::NoiseSettings;
 use crate::scalar::Scalar;
 use crate::units::Dimension;
 
@@ -152,9 +152,9 @@ pub struct ChainSpec {
     pub name: &'static str,
     /// One line on what the chain computes.
     pub summary: &'static str,
-    /// Inputs in the order [`ChainKind::evaluate`] takes them.
+    /// Inputs in the order [`Chain::evaluate`] takes them.
     pub inputs: &'static [ChainInput],
-    /// Measurands in the order [`ChainKind::evaluate`] writes them.
+    /// Measurands in the order [`Chain::evaluate`] writes them.
     pub measurands: &'static [ChainMeasurand],
 }
 
@@ -165,74 +165,110 @@ impl ChainSpec {
     }
 }
 
-/// The built-in chains.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum ChainKind {
-    /// Calibration direction of a torsion balance: power from the optical-lever reading.
-    TorsionPower,
-    /// Planning direction of a torsion balance: the signals a given power produces.
-    TorsionSignal,
-    /// Calibration direction of a force balance: power from the reading.
-    WeighingPower,
-    /// Planning direction of a force balance: the reading a given power produces.
-    WeighingSignal,
+/// A problem a chain finds with a scenario, in plain data: the scenario reader turns it into an
+/// error that points at the place in the file.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ChainIssue {
+    /// The dotted key the message is about (`inputs.reflectance`), or empty for the table asked
+    /// about (`[noise]` for noise terms).
+    pub key: &'static str,
+    /// The inputs whose table to point at, the first one the scenario defines (empty: the table).
+    pub inputs: &'static [&'static str],
+    /// What is wrong.
+    pub message: String,
+    /// A valid way to write it.
+    pub example: String,
 }
 
-impl ChainKind {
-    /// Every chain, in the order shown to users.
-    pub const ALL: [ChainKind; 4] = [
-        ChainKind::TorsionPower,
-        ChainKind::TorsionSignal,
-        ChainKind::WeighingPower,
-        ChainKind::WeighingSignal,
-    ];
-
-    /// Look a chain up by its scenario name.
-    pub fn from_name(name: &str) -> Option<ChainKind> {
-        Self::ALL.into_iter().find(|c| c.spec().name == name)
-    }
-
-    /// Its inputs and measurands.
-    pub fn spec(self) -> &'static ChainSpec {
-        match self {
-            ChainKind::TorsionPower => &super::torsion::TORSION_POWER,
-            ChainKind::TorsionSignal => &super::torsion::TORSION_SIGNAL,
-            ChainKind::WeighingPower => &super::weighing::WEIGHING_POWER,
-            ChainKind::WeighingSignal => &super::weighing::WEIGHING_SIGNAL,
-        }
-    }
-
-    /// Evaluate the chain on one trial: `args` in the order of `spec().inputs`, results into
-    /// `out` in the order of `spec().measurands`.
-    #[inline(always)]
-    pub fn evaluate<T: Scalar>(self, args: &[T], out: &mut [T]) {
-        match self {
-            ChainKind::TorsionPower => super::torsion::torsion_power(args, out),
-            ChainKind::TorsionSignal => super::torsion::torsion_signal(args, out),
-            ChainKind::WeighingPower => super::weighing::weighing_power(args, out),
-            ChainKind::WeighingSignal => super::weighing::weighing_signal(args, out),
+impl ChainIssue {
+    /// An issue with the table asked about (e.g. `[noise]`).
+    pub fn table(message: impl Into<String>, example: impl Into<String>) -> ChainIssue {
+        ChainIssue {
+            key: "",
+            inputs: &[],
+            message: message.into(),
+            example: example.into(),
         }
     }
 }
 
-impl ChainKind {
-    /// The planning twin of a calibration chain (and back).
-    pub fn twin(self) -> ChainKind {
-        match self {
-            ChainKind::TorsionPower => ChainKind::TorsionSignal,
-            ChainKind::TorsionSignal => ChainKind::TorsionPower,
-            ChainKind::WeighingPower => ChainKind::WeighingSignal,
-            ChainKind::WeighingSignal => ChainKind::WeighingPower,
+/// What a chain can know of the scenario's inputs before a run: an input's estimate (or the
+/// chain's default when the scenario leaves it out) and the upper end of its distribution (the
+/// quantile at 1 - 1e-12, the value itself for a constant), by name.
+pub struct InputValues<'a> {
+    /// The estimate of an input by name (the chain default when the scenario leaves it out).
+    pub estimate: &'a dyn Fn(&str) -> Option<f64>,
+    /// The upper end of an input the scenario defines, by name.
+    pub upper: &'a dyn Fn(&str) -> Option<f64>,
+}
+
+/// A built-in measurement chain: a named model over `physics` functions.
+pub trait Chain {
+    /// Its name, inputs and measurands.
+    const SPEC: ChainSpec;
+
+    /// Evaluate one trial: `args` in the order of `SPEC.inputs`, results into `out` in the order
+    /// of `SPEC.measurands`. A pure function, generic over the model's number type so that the
+    /// law of propagation differentiates it exactly.
+    fn evaluate<T: Scalar>(args: &[T], out: &mut [T]);
+
+    /// The white force-noise densities (N/sqrt(Hz)) of the chain's own instrument that `[noise]`
+    /// describes (thermal noise of a pendulum, its readout), at the input estimates, each with
+    /// its name. By default a chain has none of its own, and pendulum keys are refused.
+    fn instrument_noise(
+        settings: &NoiseSettings,
+        _inputs: &InputValues<'_>,
+    ) -> Result<Vec<(&'static str, f64)>, ChainIssue> {
+        if settings.temperature.is_some() || settings.readout_angle_noise.is_some() {
+            return Err(ChainIssue::table(
+                "`temperature` and `readout_angle_noise` describe a torsion pendulum; for a balance give its `force_noise` density",
+                "force_noise = \"2 nN\"   # per sqrt(Hz)",
+            ));
+        }
+        Ok(Vec::new())
+    }
+
+    /// Checks across inputs at load (each input alone is checked against its `Domain`):
+    /// warnings, or an issue that refuses the scenario. By default the mirror checks.
+    fn cross_checks(inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
+        mirror_checks(inputs)
+    }
+}
+
+/// The checks of the mirror and beam inputs: R + T + Rd must not exceed 1 anywhere in their
+/// distributions (the absorptance would be negative); a warning when more than 1 % of the
+/// Gaussian beam misses the mirror.
+pub fn mirror_checks(inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
+    let upper = |n: &str| (inputs.upper)(n).unwrap_or(0.0);
+    let (r, t, rd) = (
+        upper("reflectance"),
+        upper("transmittance"),
+        upper("diffuse_reflectance"),
+    );
+    if r + t + rd > 1.0 + 1e-12 {
+        return Err(ChainIssue {
+            key: "inputs.reflectance",
+            inputs: &["reflectance", "transmittance", "diffuse_reflectance"],
+            message: format!(
+                "reflectance + transmittance + diffuse_reflectance can exceed 1 (their upper ends are {r:.6} + {t:.6} + {rd:.6} = {:.6}), which would make the absorptance negative",
+                r + t + rd
+            ),
+            example: "reflectance in [0.9990, 0.9995] with transmittance = 1e-4".into(),
+        });
+    }
+    let mut warnings = Vec::new();
+    let defined = |n: &str| (inputs.upper)(n).and((inputs.estimate)(n));
+    if let (Some(a), Some(w)) = (defined("mirror_radius"), defined("beam_radius")) {
+        let eta = gaussian_aperture_fraction(a, w);
+        if eta < 0.99 {
+            warnings.push(format!(
+                "only {:.2} % of the beam falls on the mirror (mirror_radius {:.4} mm, beam_radius {:.4} mm): the chain corrects for the clipped fraction eta = 1 - exp(-2 a^2 / w^2), but light diffracted at the mirror edge is not modelled; a mirror radius of {:.3} mm or more catches 99 %",
+                100.0 * eta,
+                a * 1e3,
+                w * 1e3,
+                aperture_radius_for_fraction(0.99, w) * 1e3
+            ));
         }
     }
-
-    /// Whether the chain is a torsion balance.
-    pub fn is_torsion(self) -> bool {
-        matches!(self, ChainKind::TorsionPower | ChainKind::TorsionSignal)
-    }
-
-    /// Whether the chain infers the power (calibration direction).
-    pub fn is_calibration(self) -> bool {
-        matches!(self, ChainKind::TorsionPower | ChainKind::WeighingPower)
-    }
+    Ok(warnings)
 }

@@ -8,13 +8,90 @@
 
 pub mod chain;
 pub mod formula;
-mod torsion;
-mod weighing;
 
-pub use chain::{ChainInput, ChainKind, ChainMeasurand, ChainSpec, Domain};
+pub use chain::{Chain, ChainInput, ChainIssue, ChainMeasurand, ChainSpec, Domain, InputValues};
 
+use crate::physics::noise::NoiseSettings;
 use crate::scalar::Scalar;
 use formula::Program;
+
+/// The one list of built-in chains: each file (a module under `model/`) with the chains it
+/// defines, each chain a line `Variant = Type`, in the order users see them. It declares the
+/// modules and makes [`ChainKind`], whose methods dispatch to each chain's [`Chain`]
+/// implementation.
+macro_rules! chains {
+    ($($module:ident { $($(#[$doc:meta])* $variant:ident = $ty:ident,)* })*) => {
+        $(mod $module;)*
+
+        /// The built-in chains.
+        #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+        pub enum ChainKind {
+            $($($(#[$doc])* $variant,)*)*
+        }
+
+        impl ChainKind {
+            /// Every chain, in the order shown to users.
+            pub const ALL: &'static [ChainKind] = &[$($(ChainKind::$variant,)*)*];
+
+            /// Its name, inputs and measurands.
+            pub fn spec(self) -> &'static ChainSpec {
+                match self {
+                    $($(ChainKind::$variant => &<$module::$ty as Chain>::SPEC,)*)*
+                }
+            }
+
+            /// The chain's own white force-noise terms from `[noise]` (see
+            /// [`Chain::instrument_noise`]).
+            pub fn instrument_noise(
+                self,
+                settings: &NoiseSettings,
+                inputs: &InputValues<'_>,
+            ) -> Result<Vec<(&'static str, f64)>, ChainIssue> {
+                match self {
+                    $($(ChainKind::$variant => <$module::$ty as Chain>::instrument_noise(settings, inputs),)*)*
+                }
+            }
+
+            /// The chain's checks across inputs at load (see [`Chain::cross_checks`]).
+            pub fn cross_checks(self, inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
+                match self {
+                    $($(ChainKind::$variant => <$module::$ty as Chain>::cross_checks(inputs),)*)*
+                }
+            }
+        }
+
+        /// Evaluate a bound chain over `n` trials of a block: one match per block, the chain
+        /// function then inlined into its trial loop.
+        #[inline]
+        fn evaluate_chain<T: Scalar>(chain: &BoundChain, work: &mut [T], stride: usize, n: usize) {
+            match chain.kind {
+                $($(ChainKind::$variant => chain_loop(chain, work, stride, n, <$module::$ty as Chain>::evaluate::<T>),)*)*
+            }
+        }
+    };
+}
+
+chains! {
+    torsion {
+        /// Calibration direction of a torsion balance: power from the optical-lever reading.
+        TorsionPower = TorsionPower,
+        /// Planning direction of a torsion balance: the signals a given power produces.
+        TorsionSignal = TorsionSignal,
+    }
+    weighing {
+        /// Calibration direction of a force balance: power from the reading.
+        WeighingPower = WeighingPower,
+        /// Planning direction of a force balance: the reading a given power produces.
+        WeighingSignal = WeighingSignal,
+    }
+}
+
+impl ChainKind {
+    /// Look a chain up by its scenario name.
+    pub fn from_name(name: &str) -> Option<ChainKind> {
+        Self::ALL.iter().copied().find(|c| c.spec().name == name)
+    }
+}
 
 /// Where a chain argument comes from.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -105,23 +182,6 @@ impl Model {
         let mut stack = vec![T::cst(0.0); self.stack_depth().max(1)];
         self.evaluate_block(&mut work, 1, 1, &mut stack);
         work[self.inputs..].to_vec()
-    }
-}
-
-#[inline]
-fn evaluate_chain<T: Scalar>(chain: &BoundChain, work: &mut [T], stride: usize, n: usize) {
-    // One match per block; the chain function is then inlined into its trial loop.
-    match chain.kind {
-        ChainKind::TorsionPower => chain_loop(chain, work, stride, n, torsion::torsion_power::<T>),
-        ChainKind::TorsionSignal => {
-            chain_loop(chain, work, stride, n, torsion::torsion_signal::<T>)
-        }
-        ChainKind::WeighingPower => {
-            chain_loop(chain, work, stride, n, weighing::weighing_power::<T>)
-        }
-        ChainKind::WeighingSignal => {
-            chain_loop(chain, work, stride, n, weighing::weighing_signal::<T>)
-        }
     }
 }
 

@@ -10,12 +10,13 @@
 //! clipping in `physics::beam`, the balance and optical lever in `physics::torsion`.
 
 use super::chain::{
-    ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT,
-    input, join,
+    Chain, ChainInput, ChainIssue, ChainMeasurand, ChainSpec, Domain, InputValues,
+    MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT, input, join,
 };
 use crate::physics::beam::gaussian_aperture_fraction;
 use crate::physics::constants::SPEED_OF_LIGHT;
 use crate::physics::momentum::{bounce_sum, normal_force_factor};
+use crate::physics::noise::{Damping, NoiseSettings, readout_torque_psd, thermal_torque_psd};
 use crate::physics::torsion::{
     damping_corrected, deflection_angle, optical_lever_angle, optical_lever_shift,
     torsion_constant_from_period,
@@ -106,8 +107,7 @@ const TORSION_SIGNAL_INPUTS: [ChainInput; 15] = with_first(input(
     "laser power P arriving at the first mirror",
 ));
 
-/// Spec of `torsion-power`.
-pub const TORSION_POWER: ChainSpec = ChainSpec {
+const TORSION_POWER: ChainSpec = ChainSpec {
     name: "torsion-power",
     summary: "laser power from the deflection of a torsion pendulum read by an optical lever",
     inputs: &TORSION_POWER_INPUTS,
@@ -130,8 +130,7 @@ pub const TORSION_POWER: ChainSpec = ChainSpec {
     ],
 };
 
-/// Spec of `torsion-signal`.
-pub const TORSION_SIGNAL: ChainSpec = ChainSpec {
+const TORSION_SIGNAL: ChainSpec = ChainSpec {
     name: "torsion-signal",
     summary: "the force, torque, deflection and optical-lever reading a given laser power produces",
     inputs: &TORSION_SIGNAL_INPUTS,
@@ -193,32 +192,112 @@ fn setup<T: Scalar>(a: &[T]) -> Setup<T> {
     }
 }
 
-/// `torsion-power`: args in [`TORSION_POWER`] input order; out = [power, force,
-/// torsion_constant].
-#[inline(always)]
-pub fn torsion_power<T: Scalar>(a: &[T], out: &mut [T]) {
-    let readout_shift = a[0];
-    let s = setup(a);
-    let phi = optical_lever_angle(readout_shift, s.scale_distance);
-    let force = s.kappa * phi / s.lever_arm - s.stray_force;
-    out[0] = force / s.force_per_watt;
-    out[1] = force;
-    out[2] = s.kappa;
+/// `torsion-power`: laser power from the deflection of a torsion pendulum read by an optical
+/// lever. Outputs: power, force, torsion_constant.
+pub struct TorsionPower;
+
+impl Chain for TorsionPower {
+    const SPEC: ChainSpec = TORSION_POWER;
+
+    #[inline(always)]
+    fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {
+        let readout_shift = a[0];
+        let s = setup(a);
+        let phi = optical_lever_angle(readout_shift, s.scale_distance);
+        let force = s.kappa * phi / s.lever_arm - s.stray_force;
+        out[0] = force / s.force_per_watt;
+        out[1] = force;
+        out[2] = s.kappa;
+    }
+
+    fn instrument_noise(
+        settings: &NoiseSettings,
+        inputs: &InputValues<'_>,
+    ) -> Result<Vec<(&'static str, f64)>, ChainIssue> {
+        pendulum_noise(settings, inputs)
+    }
 }
 
-/// `torsion-signal`: args in [`TORSION_SIGNAL`] input order; out = [force, torque,
-/// deflection_angle, readout_shift].
-#[inline(always)]
-pub fn torsion_signal<T: Scalar>(a: &[T], out: &mut [T]) {
-    let power = a[0];
-    let s = setup(a);
-    let force = power * s.force_per_watt;
-    let torque = (force + s.stray_force) * s.lever_arm;
-    let phi = deflection_angle(torque, s.kappa);
-    out[0] = force;
-    out[1] = torque;
-    out[2] = phi;
-    out[3] = optical_lever_shift(s.scale_distance, phi);
+/// `torsion-signal`: the force, torque, deflection and optical-lever reading a given laser
+/// power produces. Outputs: force, torque, deflection_angle, readout_shift.
+pub struct TorsionSignal;
+
+impl Chain for TorsionSignal {
+    const SPEC: ChainSpec = TORSION_SIGNAL;
+
+    #[inline(always)]
+    fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {
+        let power = a[0];
+        let s = setup(a);
+        let force = power * s.force_per_watt;
+        let torque = (force + s.stray_force) * s.lever_arm;
+        let phi = deflection_angle(torque, s.kappa);
+        out[0] = force;
+        out[1] = torque;
+        out[2] = phi;
+        out[3] = optical_lever_shift(s.scale_distance, phi);
+    }
+
+    fn instrument_noise(
+        settings: &NoiseSettings,
+        inputs: &InputValues<'_>,
+    ) -> Result<Vec<(&'static str, f64)>, ChainIssue> {
+        pendulum_noise(settings, inputs)
+    }
+}
+
+/// Example of a `[noise]` table for a pendulum, for messages.
+const NOISE_EXAMPLE: &str = "[noise]\naveraging_time = \"100 s\"\ntemperature = \"295 K\"\ndamping = \"structural\"\nsignal_frequency = \"10 mHz\"\nreadout_angle_noise = \"2 nrad\"   # per sqrt(Hz)\nwavelength = \"1064 nm\"";
+
+/// The pendulum's own white force-noise densities at the input estimates: thermal (Brownian)
+/// torque noise sqrt(S_tau) / L (Saulson 1990, `physics::noise`) when `temperature` is given,
+/// and the optical lever's angle noise as kappa theta_n / L.
+fn pendulum_noise(
+    settings: &NoiseSettings,
+    inputs: &InputValues<'_>,
+) -> Result<Vec<(&'static str, f64)>, ChainIssue> {
+    let need = |n: &str| {
+        (inputs.estimate)(n).ok_or_else(|| {
+            ChainIssue::table(format!("the noise floor needs the input `{n}`"), NOISE_EXAMPLE)
+        })
+    };
+    let (inertia, period, lever) = (
+        need("moment_of_inertia")?,
+        need("free_period")?,
+        need("lever_arm")?,
+    );
+    let q = (inputs.estimate)("quality_factor").filter(|q| q.is_finite());
+    let mut kappa = torsion_constant_from_period(inertia, period);
+    if let Some(q) = q {
+        kappa = damping_corrected(kappa, q);
+    }
+    let mut components = Vec::new();
+    if let Some(temperature) = settings.temperature {
+        let Some(q) = q else {
+            return Err(ChainIssue::table(
+                "the thermal noise of the pendulum needs its quality factor: give [inputs.quality_factor] (or leave out `temperature` to ignore thermal noise)",
+                "[inputs.quality_factor]\nvalue = 3000",
+            ));
+        };
+        let frequency = match (settings.damping, settings.signal_frequency) {
+            (Damping::Structural, None) => {
+                return Err(ChainIssue::table(
+                    "structural damping makes the thermal noise depend on the signal frequency: give `signal_frequency` (the rate at which the beam is switched)",
+                    "signal_frequency = \"10 mHz\"",
+                ));
+            }
+            (_, f) => f.unwrap_or(0.0),
+        };
+        let psd = thermal_torque_psd(temperature, kappa, q, period, frequency, settings.damping);
+        components.push(("thermal (pendulum)", psd.sqrt() / lever));
+    }
+    if let Some(theta) = settings.readout_angle_noise {
+        components.push((
+            "readout (optical lever)",
+            readout_torque_psd(kappa, theta).sqrt() / lever,
+        ));
+    }
+    Ok(components)
 }
 
 #[cfg(test)]
@@ -237,9 +316,9 @@ mod tests {
     #[test]
     fn round_trip_returns_the_power() {
         let mut signal = [0.0; 4];
-        torsion_signal(&args(25.0), &mut signal);
+        TorsionSignal::evaluate(&args(25.0), &mut signal);
         let mut power = [0.0; 3];
-        torsion_power(&args(signal[3]), &mut power);
+        TorsionPower::evaluate(&args(signal[3]), &mut power);
         assert_relative_eq!(power[0], 25.0, max_relative = 1e-12);
         assert_relative_eq!(power[1], signal[0], max_relative = 1e-12);
     }
@@ -266,7 +345,7 @@ mod tests {
             0.0,
         ];
         let mut out = [0.0; 4];
-        torsion_signal(&a, &mut out);
+        TorsionSignal::evaluate(&a, &mut out);
         let f = 2.0 * 10.0 / SPEED_OF_LIGHT;
         let kappa = 1e-4 * (2.0 * std::f64::consts::PI / 100.0f64).powi(2);
         assert_relative_eq!(out[0], f, max_relative = 1e-12);

@@ -11,8 +11,8 @@
 //! reflections whose force acts on the weighed body.
 
 use super::chain::{
-    ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT,
-    input, join,
+    Chain, ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS,
+    NOISE_FORCE_INPUT, input, join,
 };
 use crate::physics::balance::{balance_reading, force_from_reading};
 use crate::physics::beam::gaussian_aperture_fraction;
@@ -96,8 +96,7 @@ const FORCE: ChainMeasurand = ChainMeasurand {
     description: "radiation force F on the mirror, along its normal",
 };
 
-/// Spec of `weighing-power`.
-pub const WEIGHING_POWER: ChainSpec = ChainSpec {
+const WEIGHING_POWER: ChainSpec = ChainSpec {
     name: "weighing-power",
     summary: "laser power from the reading of a force balance or mass comparator under a mirror",
     inputs: &WEIGHING_POWER_INPUTS,
@@ -111,8 +110,7 @@ pub const WEIGHING_POWER: ChainSpec = ChainSpec {
     ],
 };
 
-/// Spec of `weighing-signal`.
-pub const WEIGHING_SIGNAL: ChainSpec = ChainSpec {
+const WEIGHING_SIGNAL: ChainSpec = ChainSpec {
     name: "weighing-signal",
     summary: "the balance reading and the force a given laser power produces",
     inputs: &WEIGHING_SIGNAL_INPUTS,
@@ -138,22 +136,36 @@ fn force_per_watt<T: Scalar>(a: &[T]) -> T {
     g * eta * s * T::cst(1.0 / SPEED_OF_LIGHT)
 }
 
-/// `weighing-power`: args in [`WEIGHING_POWER`] order; out = [power, force].
-#[inline(always)]
-pub fn weighing_power<T: Scalar>(a: &[T], out: &mut [T]) {
-    let other = a[11] + a[12];
-    let force = force_from_reading(a[0], a[2], other, a[1], a[3]);
-    out[0] = force / force_per_watt(a);
-    out[1] = force;
+/// `weighing-power`: laser power from the reading of a force balance or mass comparator under a
+/// mirror. Outputs: power, force.
+pub struct WeighingPower;
+
+impl Chain for WeighingPower {
+    const SPEC: ChainSpec = WEIGHING_POWER;
+
+    #[inline(always)]
+    fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {
+        let other = a[11] + a[12];
+        let force = force_from_reading(a[0], a[2], other, a[1], a[3]);
+        out[0] = force / force_per_watt(a);
+        out[1] = force;
+    }
 }
 
-/// `weighing-signal`: args in [`WEIGHING_SIGNAL`] order; out = [reading, force].
-#[inline(always)]
-pub fn weighing_signal<T: Scalar>(a: &[T], out: &mut [T]) {
-    let other = a[11] + a[12];
-    let force = a[0] * force_per_watt(a);
-    out[0] = balance_reading(force, a[2], other, a[1], a[3]);
-    out[1] = force;
+/// `weighing-signal`: the balance reading and the force a given laser power produces. Outputs:
+/// reading, force.
+pub struct WeighingSignal;
+
+impl Chain for WeighingSignal {
+    const SPEC: ChainSpec = WEIGHING_SIGNAL;
+
+    #[inline(always)]
+    fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {
+        let other = a[11] + a[12];
+        let force = a[0] * force_per_watt(a);
+        out[0] = balance_reading(force, a[2], other, a[1], a[3]);
+        out[1] = force;
+    }
 }
 
 #[cfg(test)]
@@ -171,9 +183,9 @@ mod tests {
     #[test]
     fn round_trip_returns_the_power() {
         let mut sig = [0.0; 2];
-        weighing_signal(&args(1000.0), &mut sig);
+        WeighingSignal::evaluate(&args(1000.0), &mut sig);
         let mut back = [0.0; 2];
-        weighing_power(&args(sig[0]), &mut back);
+        WeighingPower::evaluate(&args(sig[0]), &mut back);
         assert_relative_eq!(back[0], 1000.0, max_relative = 1e-12);
         assert_relative_eq!(back[1], sig[1], max_relative = 1e-12);
     }
@@ -200,9 +212,9 @@ mod tests {
             ]
         };
         let mut out = [0.0; 2];
-        weighing_signal(&ideal(1000.0, 1.0), &mut out);
+        WeighingSignal::evaluate(&ideal(1000.0, 1.0), &mut out);
         assert_relative_eq!(out[0], 0.680e-6, max_relative = 1e-3);
-        weighing_signal(&ideal(10.0, 33.0), &mut out);
+        WeighingSignal::evaluate(&ideal(10.0, 33.0), &mut out);
         assert_relative_eq!(out[1], 2.20e-6, max_relative = 1e-3);
     }
 }

@@ -27,6 +27,39 @@ pub enum Damping {
     Structural,
 }
 
+/// The PSD convention, printed beside every noise floor.
+pub const PSD_CONVENTION: &str = "one-sided power spectral densities; the resolution after averaging for a time t is sqrt(S_F / (2 t)) (some authors quote sqrt(S_F / t), which is larger by sqrt 2)";
+
+/// What the `[noise]` table asked for.
+#[derive(Clone, Debug, PartialEq)]
+pub struct NoiseSettings {
+    /// Averaging time t, s.
+    pub averaging_time: f64,
+    /// Temperature of the pendulum, K.
+    pub temperature: Option<f64>,
+    /// Damping model of the pendulum.
+    pub damping: Damping,
+    /// Signal frequency, Hz (structural damping).
+    pub signal_frequency: Option<f64>,
+    /// Optical-lever angle noise density, rad/sqrt(Hz).
+    pub readout_angle_noise: Option<f64>,
+    /// A balance's (or any added) force noise density, N/sqrt(Hz).
+    pub force_noise: Option<f64>,
+    /// Laser wavelength for the shot noise, m.
+    pub wavelength: Option<f64>,
+    /// Force resolution to report the averaging time for: absolute (N) or relative to the force.
+    pub target: Target,
+}
+
+/// A force-resolution target.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Target {
+    /// In newtons.
+    Absolute(f64),
+    /// A fraction of the radiation force.
+    Relative(f64),
+}
+
 /// One-sided thermal torque noise PSD, (N m)^2/Hz, at temperature `temperature` (K) for a
 /// pendulum of torsion constant `kappa` (N m/rad), quality factor `q`, free period `period` (s),
 /// at the signal frequency `frequency` (Hz, used for structural damping).

@@ -9,15 +9,15 @@ pub mod schema;
 mod source;
 mod table;
 
+pub use crate::physics::noise::{NoiseSettings, PSD_CONVENTION, Target};
 pub use correlation::{CorrelatedGroup, CorrelatedPair, Correlations};
 pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
-pub use noise::{NoiseFloor, NoiseSettings, PSD_CONVENTION, Target};
+pub use noise::NoiseFloor;
 pub use source::{Source, edit_distance, nearest};
 
 use crate::error::InputError;
 use crate::model::formula::{self, Func, RESERVED};
-use crate::model::{ArgSource, BoundChain, ChainKind, FormulaStep, Model};
-use crate::physics::beam::{aperture_radius_for_fraction, gaussian_aperture_fraction};
+use crate::model::{ArgSource, BoundChain, ChainKind, FormulaStep, InputValues, Model};
 use crate::units::{Dimension, DisplayUnit, parse_quantity, parse_unit};
 use source::suggestion;
 use std::ops::Range;
@@ -1153,48 +1153,38 @@ impl<'a, 'i> Loader<'a, 'i> {
         warnings: &mut Vec<String>,
     ) -> Result<(), InputError> {
         let find = |n: &str| inputs.iter().find(|q| q.name == n);
-        let upper = |n: &str| -> f64 {
-            match find(n).map(|q| &q.law) {
-                Some(Law::Constant(v)) => *v,
-                Some(Law::Distributed(d)) => d.quantile(1.0 - OUTSIDE_TOLERANCE),
-                None => 0.0,
+        let spec = kind.spec();
+        let estimate = |n: &str| -> Option<f64> {
+            match find(n) {
+                Some(q) => Some(q.estimate()),
+                None => spec
+                    .inputs
+                    .iter()
+                    .find(|c| c.name == n)
+                    .and_then(|c| c.default),
             }
         };
-        let spec = kind.spec();
-        if spec.input_index("reflectance").is_some() {
-            let (r, t, rd) = (
-                upper("reflectance"),
-                upper("transmittance"),
-                upper("diffuse_reflectance"),
-            );
-            if r + t + rd > 1.0 + 1e-12 {
-                let q = find("reflectance")
-                    .or(find("transmittance"))
-                    .or(find("diffuse_reflectance"));
-                let span = q.map_or(0..0, |q| q.span.clone());
-                return Err(self.src.error(
-                    &span,
-                    "inputs.reflectance",
-                    format!(
-                        "reflectance + transmittance + diffuse_reflectance can exceed 1 (their upper ends are {r:.6} + {t:.6} + {rd:.6} = {:.6}), which would make the absorptance negative",
-                        r + t + rd
-                    ),
-                    "reflectance in [0.9990, 0.9995] with transmittance = 1e-4",
-                ));
-            }
-        }
-        if let (Some(a), Some(w)) = (find("mirror_radius"), find("beam_radius")) {
-            let eta = gaussian_aperture_fraction(a.estimate(), w.estimate());
-            if eta < 0.99 {
-                warnings.push(format!(
-                    "only {:.2} % of the beam falls on the mirror (mirror_radius {:.4} mm, beam_radius {:.4} mm): the chain corrects for the clipped fraction eta = 1 - exp(-2 a^2 / w^2), but light diffracted at the mirror edge is not modelled; a mirror radius of {:.3} mm or more catches 99 %",
-                    100.0 * eta,
-                    a.estimate() * 1e3,
-                    w.estimate() * 1e3,
-                    aperture_radius_for_fraction(0.99, w.estimate()) * 1e3
-                ));
-            }
-        }
+        let upper = |n: &str| -> Option<f64> {
+            find(n).map(|q| match &q.law {
+                Law::Constant(v) => *v,
+                Law::Distributed(d) => d.quantile(1.0 - OUTSIDE_TOLERANCE),
+            })
+        };
+        let found = kind
+            .cross_checks(&InputValues {
+                estimate: &estimate,
+                upper: &upper,
+            })
+            .map_err(|issue| {
+                let span = issue
+                    .inputs
+                    .iter()
+                    .find_map(|n| find(n))
+                    .map_or(0..0, |q| q.span.clone());
+                self.src
+                    .error(&span, issue.key, issue.message, issue.example)
+            })?;
+        warnings.extend(found);
         Ok(())
     }
 }

@@ -12,47 +12,12 @@ use super::inputs::{InputQuantity, Law};
 use super::table::{Entry, Table};
 use crate::dist::{Distribution, Normal};
 use crate::error::InputError;
-use crate::model::ChainKind;
+use crate::model::{ChainKind, InputValues};
 use crate::physics::noise::{
-    Damping, readout_torque_psd, resolution_after, shot_force_psd, thermal_torque_psd,
-    time_for_resolution,
+    Damping, NoiseSettings, Target, resolution_after, shot_force_psd, time_for_resolution,
 };
-use crate::physics::torsion::{damping_corrected, torsion_constant_from_period};
 use crate::units::{Dimension, DisplayUnit, parse_quantity};
 use toml::de::DeValue;
-
-/// The PSD convention, printed beside every noise floor.
-pub const PSD_CONVENTION: &str = "one-sided power spectral densities; the resolution after averaging for a time t is sqrt(S_F / (2 t)) (some authors quote sqrt(S_F / t), which is larger by sqrt 2)";
-
-/// What the `[noise]` table asked for.
-#[derive(Clone, Debug, PartialEq)]
-pub struct NoiseSettings {
-    /// Averaging time t, s.
-    pub averaging_time: f64,
-    /// Temperature of the pendulum, K.
-    pub temperature: Option<f64>,
-    /// Damping model of the pendulum.
-    pub damping: Damping,
-    /// Signal frequency, Hz (structural damping).
-    pub signal_frequency: Option<f64>,
-    /// Optical-lever angle noise density, rad/sqrt(Hz).
-    pub readout_angle_noise: Option<f64>,
-    /// A balance's (or any added) force noise density, N/sqrt(Hz).
-    pub force_noise: Option<f64>,
-    /// Laser wavelength for the shot noise, m.
-    pub wavelength: Option<f64>,
-    /// Force resolution to report the averaging time for: absolute (N) or relative to the force.
-    pub target: Target,
-}
-
-/// A force-resolution target.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub enum Target {
-    /// In newtons.
-    Absolute(f64),
-    /// A fraction of the radiation force.
-    Relative(f64),
-}
 
 /// The noise floor at the input estimates.
 #[derive(Clone, Debug, PartialEq)]
@@ -182,53 +147,16 @@ pub fn noise_floor(
     force: f64,
     power: f64,
 ) -> Result<NoiseFloor, InputError> {
-    let mut components: Vec<(&'static str, f64)> = Vec::new();
-    if chain.is_torsion() {
-        let need = |n: &str| {
-            estimate(n)
-                .ok_or_else(|| t.error(format!("the noise floor needs the input `{n}`"), EXAMPLE))
-        };
-        let (inertia, period, lever) = (
-            need("moment_of_inertia")?,
-            need("free_period")?,
-            need("lever_arm")?,
-        );
-        let q = estimate("quality_factor").filter(|q| q.is_finite());
-        let mut kappa = torsion_constant_from_period(inertia, period);
-        if let Some(q) = q {
-            kappa = damping_corrected(kappa, q);
-        }
-        if let Some(temperature) = s.temperature {
-            let Some(q) = q else {
-                return Err(t.error(
-                    "the thermal noise of the pendulum needs its quality factor: give [inputs.quality_factor] (or leave out `temperature` to ignore thermal noise)",
-                    "[inputs.quality_factor]\nvalue = 3000",
-                ));
-            };
-            let frequency = match (s.damping, s.signal_frequency) {
-                (Damping::Structural, None) => {
-                    return Err(t.error(
-                        "structural damping makes the thermal noise depend on the signal frequency: give `signal_frequency` (the rate at which the beam is switched)",
-                        "signal_frequency = \"10 mHz\"",
-                    ));
-                }
-                (_, f) => f.unwrap_or(0.0),
-            };
-            let psd = thermal_torque_psd(temperature, kappa, q, period, frequency, s.damping);
-            components.push(("thermal (pendulum)", psd.sqrt() / lever));
-        }
-        if let Some(theta) = s.readout_angle_noise {
-            components.push((
-                "readout (optical lever)",
-                readout_torque_psd(kappa, theta).sqrt() / lever,
-            ));
-        }
-    } else if s.temperature.is_some() || s.readout_angle_noise.is_some() {
-        return Err(t.error(
-            "`temperature` and `readout_angle_noise` describe a torsion pendulum; for a balance give its `force_noise` density",
-            "force_noise = \"2 nN\"   # per sqrt(Hz)",
-        ));
-    }
+    let no_upper = |_: &str| None;
+    let mut components = chain
+        .instrument_noise(
+            s,
+            &InputValues {
+                estimate,
+                upper: &no_upper,
+            },
+        )
+        .map_err(|issue| t.error(issue.message, issue.example))?;
     if let Some(f) = s.force_noise {
         components.push(("balance / force readout", f));
     }

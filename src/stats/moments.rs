@@ -16,22 +16,6 @@ pub struct Moments {
     pub m2: f64,
 }
 
-/// Neumaier's compensated sum (Neumaier, ZAMM 54, 39, 1974).
-pub fn compensated_sum(values: &[f64]) -> f64 {
-    let mut sum = 0.0f64;
-    let mut c = 0.0f64;
-    for &x in values {
-        let t = sum + x;
-        if sum.abs() >= x.abs() {
-            c += (sum - t) + x;
-        } else {
-            c += (x - t) + sum;
-        }
-        sum = t;
-    }
-    sum + c
-}
-
 impl Moments {
     /// No values.
     pub const EMPTY: Moments = Moments {
