@@ -9,9 +9,12 @@
 //! sigma_F = sqrt(S_F / (2 t)).
 
 use super::inputs::{InputQuantity, Law};
+use super::load::Loader;
+use super::study::Measurand;
 use super::table::{Entry, Table};
 use crate::dist::{Distribution, Normal};
 use crate::error::InputError;
+use crate::model::Model;
 use crate::model::{ChainKind, InputValues};
 use crate::physics::noise::{
     Damping, NoiseSettings, Target, resolution_after, shot_force_psd, time_for_resolution,
@@ -65,7 +68,7 @@ fn quantity(e: &Entry<'_, '_>, dim: Dimension, what: &str) -> Result<f64, InputE
 }
 
 /// Read `[noise]`.
-pub fn read_noise(t: &Table<'_, '_>) -> Result<NoiseSettings, InputError> {
+fn read_noise(t: &Table<'_, '_>) -> Result<NoiseSettings, InputError> {
     t.check_keys(
         &[
             "averaging_time",
@@ -139,7 +142,7 @@ pub fn read_noise(t: &Table<'_, '_>) -> Result<NoiseSettings, InputError> {
 
 /// The noise floor of a chain at the input estimates. `estimate(name)` gives an input's estimate
 /// (or the chain default), `force` and `power` the radiation force and power at the estimates.
-pub fn noise_floor(
+fn noise_floor(
     t: &Table<'_, '_>,
     s: &NoiseSettings,
     chain: ChainKind,
@@ -190,7 +193,7 @@ pub fn noise_floor(
 }
 
 /// The input quantity `noise_force` ~ N(0, sigma_F) made from a noise floor.
-pub fn noise_input(floor: &NoiseFloor, t: &Table<'_, '_>) -> Result<InputQuantity, InputError> {
+fn noise_input(floor: &NoiseFloor, t: &Table<'_, '_>) -> Result<InputQuantity, InputError> {
     let normal = Normal::new(0.0, floor.resolution)
         .map_err(|e| t.error(format!("the noise floor is not usable: {e}"), EXAMPLE))?;
     Ok(InputQuantity {
@@ -202,4 +205,61 @@ pub fn noise_input(floor: &NoiseFloor, t: &Table<'_, '_>) -> Result<InputQuantit
         note: Some("force noise left after averaging, from [noise]".to_string()),
         span: t.span.clone(),
     })
+}
+
+impl Loader<'_, '_> {
+    /// `[noise]`, if the scenario has it: the noise floor at the input estimates and the input
+    /// quantity `noise_force` it makes (the caller adds it and compiles the model again).
+    pub(super) fn noise(
+        &self,
+        chain: Option<ChainKind>,
+        inputs: &[InputQuantity],
+        measurands: &[Measurand],
+        model: &Model,
+    ) -> Result<Option<(NoiseFloor, InputQuantity)>, InputError> {
+        let Some(e) = self.top.get("noise") else {
+            return Ok(None);
+        };
+        let t = e.table("[noise]\naveraging_time = \"100 s\"")?;
+        let Some(kind) = chain else {
+            return Err(t.error(
+                "[noise] describes the balance of a built-in chain; with formulas only, model the noise as an input quantity",
+                "[model]\nchain = \"torsion-power\"",
+            ));
+        };
+        if let Some(q) = inputs.iter().find(|q| q.name == "noise_force") {
+            return Err(self.src.error(
+                &q.span,
+                "inputs.noise_force",
+                "`noise_force` is made from [noise]; remove one of the two",
+                "[noise]\naveraging_time = \"100 s\"",
+            ));
+        }
+        let settings = read_noise(&t)?;
+        let estimates: Vec<f64> = inputs.iter().map(InputQuantity::estimate).collect();
+        let values = model.evaluate_point::<f64>(&estimates);
+        let spec = kind.spec();
+        let value_of = |name: &str| -> Option<f64> {
+            if let Some(q) = inputs.iter().find(|q| q.name == name) {
+                return Some(q.estimate());
+            }
+            spec.inputs
+                .iter()
+                .find(|c| c.name == name)
+                .and_then(|c| c.default)
+        };
+        let measurand = |name: &str| {
+            measurands
+                .iter()
+                .position(|m| m.name == name)
+                .map(|i| values[i])
+        };
+        let force = measurand("force").unwrap_or(f64::NAN);
+        let power = measurand("power")
+            .or_else(|| value_of("power"))
+            .unwrap_or(f64::NAN);
+        let floor = noise_floor(&t, &settings, kind, &value_of, force, power)?;
+        let input = noise_input(&floor, &t)?;
+        Ok(Some((floor, input)))
+    }
 }

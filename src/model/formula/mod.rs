@@ -10,9 +10,11 @@
 //! To add a function: add a variant to [`Func`], its name and arity in [`Func::from_name`], its
 //! value in `program.rs` (`apply1`, or a binary op), and a line in the README's formula table.
 
+mod order;
 mod parser;
 mod program;
 
+pub use order::{Cycle, topological_order};
 pub use parser::{Expr, Func, parse};
 pub use program::{Op, Program, Reference, compile};
 

@@ -1,0 +1,403 @@
+//! The measurands of a scenario: the chain's, bound to the input columns, and the formulas of
+//! `[measurands.NAME]`, parsed, compiled and put in an order where each follows what it uses.
+
+use super::inputs::InputQuantity;
+use super::load::Loader;
+use super::source::{nearest, suggestion};
+use super::study::Measurand;
+use super::table::Entry;
+use crate::error::InputError;
+use crate::model::formula::{self, topological_order};
+use crate::model::{ArgSource, BoundChain, ChainKind, FormulaStep, Model};
+use crate::units::{DisplayUnit, parse_unit};
+use std::ops::Range;
+
+/// A formula measurand read from its table, waiting to be compiled.
+struct Pending<'a, 'i> {
+    /// Its index among the measurands.
+    index: usize,
+    /// Its `formula` entry.
+    entry: Entry<'a, 'i>,
+    /// The formula text.
+    text: String,
+    /// Where the formula's value is in the file.
+    value_span: Range<usize>,
+}
+
+impl<'a, 'i> Loader<'a, 'i> {
+    /// The measurands and the compiled model of the scenario: the chain's measurands first, then
+    /// the formulas in file order. Refuses a chain input the scenario leaves undefined, formula
+    /// errors, cycles, and inputs nothing uses (almost always a misspelling).
+    pub(super) fn model(
+        &self,
+        chain: Option<(ChainKind, Range<usize>)>,
+        inputs: &[InputQuantity],
+    ) -> Result<(Vec<Measurand>, Model), InputError> {
+        let n_in = inputs.len();
+        let mut measurands: Vec<Measurand> = Vec::new();
+        let mut used = vec![false; n_in];
+        let bound = match &chain {
+            Some((kind, span)) => {
+                Some(self.bind_chain(*kind, span, inputs, &mut used, &mut measurands)?)
+            }
+            None => None,
+        };
+        let pending =
+            self.measurand_tables(chain.as_ref().map(|c| c.0), inputs, &mut measurands)?;
+        if measurands.is_empty() {
+            return Err(self.top.error(
+                "the scenario defines no measurand: name a built-in chain under [model] or write a formula under [measurands.NAME]",
+                "[model]\nchain = \"torsion-power\"   or   [measurands.y]\nformula = \"x1 + x2\"",
+            ));
+        }
+        let steps = self.compile_formulas(&pending, inputs, &measurands, &mut used)?;
+        self.check_all_used(chain.as_ref().map(|c| c.0), inputs, &used)?;
+        Ok((
+            measurands.clone(),
+            Model {
+                inputs: n_in,
+                measurands: measurands.len(),
+                chain: bound,
+                steps,
+            },
+        ))
+    }
+
+    /// Bind the chain's inputs to the scenario's columns (or the chain defaults) and add its
+    /// measurands; refuse inputs the chain needs and the scenario does not define.
+    fn bind_chain(
+        &self,
+        kind: ChainKind,
+        span: &Range<usize>,
+        inputs: &[InputQuantity],
+        used: &mut [bool],
+        measurands: &mut Vec<Measurand>,
+    ) -> Result<BoundChain, InputError> {
+        let n_in = inputs.len();
+        let spec = kind.spec();
+        let mut args = Vec::new();
+        let mut missing = Vec::new();
+        for ci in spec.inputs {
+            match inputs.iter().position(|q| q.name == ci.name) {
+                Some(i) => {
+                    used[i] = true;
+                    args.push(ArgSource::Column(i));
+                }
+                None => match ci.default {
+                    Some(v) => args.push(ArgSource::Fixed(v)),
+                    None => {
+                        missing.push(ci);
+                        args.push(ArgSource::Fixed(f64::NAN));
+                    }
+                },
+            }
+        }
+        if !missing.is_empty() {
+            let strangers: Vec<&str> = inputs
+                .iter()
+                .map(|q| q.name.as_str())
+                .filter(|n| spec.input_index(n).is_none())
+                .collect();
+            let list: Vec<String> = missing
+                .iter()
+                .map(|ci| {
+                    let hint = nearest(ci.name, strangers.iter().copied())
+                        .map_or(String::new(), |n| {
+                            format!("; the scenario defines `{n}`: did you mean `{}`?", ci.name)
+                        });
+                    format!(
+                        "  {} ({}; {}){hint}",
+                        ci.name,
+                        ci.description,
+                        ci.dimension.kind()
+                    )
+                })
+                .collect();
+            return Err(self.src.error(
+                span,
+                "model.chain",
+                format!(
+                    "chain {:?} needs these inputs, which the scenario does not define:\n{}",
+                    spec.name,
+                    list.join("\n")
+                ),
+                format!(
+                    "[inputs.{}]\nvalue = {}",
+                    missing[0].name,
+                    missing[0].dimension.example()
+                ),
+            ));
+        }
+        let bound = BoundChain {
+            kind,
+            args,
+            first_output: n_in,
+        };
+        for m in spec.measurands {
+            measurands.push(Measurand {
+                name: m.name.to_string(),
+                dimension: Some(m.dimension),
+                unit: None,
+                formula: None,
+                description: m.description.to_string(),
+            });
+        }
+        Ok(bound)
+    }
+
+    /// Read `[measurands.NAME]`: display units and notes of chain measurands, and the formula
+    /// measurands (added in file order), to be compiled.
+    fn measurand_tables(
+        &self,
+        chain: Option<ChainKind>,
+        inputs: &[InputQuantity],
+        measurands: &mut Vec<Measurand>,
+    ) -> Result<Vec<Pending<'a, 'i>>, InputError> {
+        let mut pending: Vec<Pending<'a, 'i>> = Vec::new();
+        if let Some(e) = self.top.get("measurands") {
+            let t = e.table("[measurands.dm]\nformula = \"m1 - m2\"")?;
+            for entry in t.entries() {
+                self.check_name(&entry, "measurand")?;
+                let mt = entry.table("[measurands.dm]\nformula = \"m1 - m2\"\nunit = \"mg\"")?;
+                mt.check_keys(
+                    &["formula", "unit", "note"],
+                    "formula = \"m1 - m2\", unit = \"mg\"",
+                )?;
+                if inputs.iter().any(|q| q.name == entry.key) {
+                    return Err(self.src.error(
+                        &entry.key_span,
+                        &entry.path,
+                        format!("`{}` is already an input quantity; a measurand needs a name of its own", entry.key),
+                        "[measurands.power_corrected]",
+                    ));
+                }
+                let note = match mt.get("note") {
+                    Some(n) => Some(n.string("note = \"...\"")?.to_string()),
+                    None => None,
+                };
+                let existing = measurands.iter().position(|m| m.name == entry.key);
+                let index = match existing {
+                    Some(i) => {
+                        if let Some(f) = mt.get("formula") {
+                            return Err(f.error(
+                                format!(
+                                    "`{}` is computed by the chain {:?}; remove `formula` (only `unit` and `note` may be set for it) or give the formula another name",
+                                    entry.key,
+                                    chain.map_or("", |c| c.spec().name)
+                                ),
+                                format!("[measurands.{}]\nunit = \"mW\"", entry.key),
+                            ));
+                        }
+                        i
+                    }
+                    None => {
+                        let f = mt.require("formula", "formula = \"(m1 + m2) / 2\"")?;
+                        let text = f.string("formula = \"(m1 + m2) / 2\"")?.to_string();
+                        measurands.push(Measurand {
+                            name: entry.key.to_string(),
+                            dimension: None,
+                            unit: None,
+                            formula: Some(text.clone()),
+                            description: note.clone().unwrap_or_default(),
+                        });
+                        let index = measurands.len() - 1;
+                        pending.push(Pending {
+                            index,
+                            value_span: f.span(),
+                            entry: f,
+                            text,
+                        });
+                        index
+                    }
+                };
+                if let Some(n) = note {
+                    measurands[index].description = n;
+                }
+                if let Some(u) = mt.get("unit") {
+                    let text = u.string("unit = \"mg\"")?;
+                    let unit = parse_unit(text).map_err(|err| {
+                        u.error(format!("cannot read unit {text:?}: {err}"), "unit = \"mg\"")
+                    })?;
+                    if let Some(dim) = measurands[index].dimension
+                        && dim != unit.dimension
+                    {
+                        return Err(u.error(
+                            format!(
+                                "`{}` is {}; {text:?} is {}",
+                                entry.key,
+                                dim.kind(),
+                                unit.dimension.kind()
+                            ),
+                            format!("unit = \"{}\"", dim.si_symbol()),
+                        ));
+                    }
+                    measurands[index].unit = Some(DisplayUnit {
+                        symbol: unit.text.clone(),
+                        factor: unit.factor,
+                    });
+                }
+            }
+        }
+        Ok(pending)
+    }
+
+    /// Parse and compile every pending formula, and order them so each follows what it uses.
+    fn compile_formulas(
+        &self,
+        pending: &[Pending<'a, 'i>],
+        inputs: &[InputQuantity],
+        measurands: &[Measurand],
+        used: &mut [bool],
+    ) -> Result<Vec<FormulaStep>, InputError> {
+        let n_in = inputs.len();
+        let names_in: Vec<&str> = inputs.iter().map(|q| q.name.as_str()).collect();
+        let names_m: Vec<String> = measurands.iter().map(|m| m.name.clone()).collect();
+        let mut compiled: Vec<(usize, formula::Program, Vec<formula::Reference>)> = Vec::new();
+        for p in pending {
+            let own = &measurands[p.index].name;
+            let resolve = |name: &str| -> Result<usize, String> {
+                if let Some(i) = names_in.iter().position(|n| *n == name) {
+                    return Ok(i);
+                }
+                if let Some(m) = names_m.iter().position(|n| n == name) {
+                    if n_in + m == n_in + p.index {
+                        return Err(format!("the formula of `{own}` refers to itself"));
+                    }
+                    return Ok(n_in + m);
+                }
+                let all = names_in
+                    .iter()
+                    .copied()
+                    .chain(names_m.iter().map(String::as_str));
+                Err(format!(
+                    "unknown name `{name}`{}: a formula may use input quantities, measurands, `pi` and functions",
+                    suggestion(name, all)
+                ))
+            };
+            let parsed = formula::parse(&p.text)
+                .map_err(|e| self.formula_error(p.entry.clone(), &p.value_span, &p.text, e))?;
+            let (program, refs) = formula::compile(&parsed, &resolve)
+                .map_err(|e| self.formula_error(p.entry.clone(), &p.value_span, &p.text, e))?;
+            for r in &refs {
+                if r.column < n_in {
+                    used[r.column] = true;
+                }
+            }
+            compiled.push((p.index, program, refs));
+        }
+
+        // Order formula steps so each follows what it uses; refuse cycles.
+        let position_of = |m: usize| compiled.iter().position(|c| c.0 == m);
+        let uses: Vec<Vec<Option<usize>>> = compiled
+            .iter()
+            .map(|c| {
+                c.2.iter()
+                    .map(|r| {
+                        (r.column >= n_in)
+                            .then(|| position_of(r.column - n_in))
+                            .flatten()
+                    })
+                    .collect()
+            })
+            .collect();
+        let order = topological_order(&uses).map_err(|cycle| {
+            let names: Vec<&str> = cycle
+                .path
+                .iter()
+                .map(|c| measurands[compiled[*c].0].name.as_str())
+                .collect();
+            let r = &compiled[cycle.at].2[cycle.edge];
+            let e = formula::FormulaError {
+                position: r.position,
+                length: r.length,
+                message: format!(
+                    "formulas refer to each other in a cycle: {}",
+                    names.join(" -> ")
+                ),
+            };
+            let p = &pending[cycle.at];
+            self.formula_error(p.entry.clone(), &p.value_span, &p.text, e)
+        })?;
+        Ok(order
+            .into_iter()
+            .map(|k| FormulaStep {
+                column: n_in + compiled[k].0,
+                program: compiled[k].1.clone(),
+            })
+            .collect())
+    }
+
+    /// Refuse an input that neither the chain nor any formula uses.
+    fn check_all_used(
+        &self,
+        chain: Option<ChainKind>,
+        inputs: &[InputQuantity],
+        used: &[bool],
+    ) -> Result<(), InputError> {
+        if let Some(i) = used.iter().position(|u| !u) {
+            let q = &inputs[i];
+            let (hint, takes) = match chain {
+                Some(kind) => {
+                    let spec = kind.spec();
+                    let names: Vec<&str> = spec.inputs.iter().map(|c| c.name).collect();
+                    (
+                        suggestion(&q.name, names.iter().copied()),
+                        format!(
+                            " and is not an input of chain {:?} (it takes: {})",
+                            spec.name,
+                            names.join(", ")
+                        ),
+                    )
+                }
+                None => (String::new(), String::new()),
+            };
+            return Err(self.src.error(
+                &q.span,
+                &format!("inputs.{}", q.name),
+                format!("input `{}` is used by no formula{takes}{hint}", q.name),
+                "remove it, rename it, or use it in a [measurands.NAME] formula",
+            ));
+        }
+        Ok(())
+    }
+
+    /// Turn a formula error into a file error that marks the column inside the formula.
+    fn formula_error(
+        &self,
+        entry: Entry<'_, '_>,
+        span: &Range<usize>,
+        text: &str,
+        e: formula::FormulaError,
+    ) -> InputError {
+        let raw = &self.src.text[span.clone()];
+        let open = if raw.starts_with("\"\"\"") || raw.starts_with("'''") {
+            3
+        } else {
+            1
+        };
+        let inner_start = span.start + open;
+        let inner = self.src.text.get(inner_start..).unwrap_or("");
+        let file_span = if inner.starts_with(text) {
+            let byte = |chars: usize| {
+                text.char_indices()
+                    .nth(chars)
+                    .map_or(text.len(), |(b, _)| b)
+            };
+            let a = inner_start + byte(e.position);
+            let b = inner_start + byte(e.position + e.length);
+            a..b.max(a + 1)
+        } else {
+            span.clone()
+        };
+        self.src.error(
+            &file_span,
+            &entry.path,
+            format!(
+                "in formula {text:?}, at character {}: {}",
+                e.position + 1,
+                e.message
+            ),
+            "formula = \"(mRc + dmRc) * (1 + (rho_a - rho_a0) * (1/rho_W - 1/rho_R)) - m_nom\"",
+        )
+    }
+}

@@ -1,0 +1,138 @@
+//! The study a scenario file describes, validated and in SI: what the engine runs and the
+//! analysis reads.
+
+use super::{Correlations, InputQuantity, Law, NoiseFloor};
+use crate::model::{ChainKind, Model};
+use crate::units::{Dimension, DisplayUnit};
+
+/// Default number of Monte Carlo trials M (JCGM 101 7.2.2 recommends 10^6 for a 95 % interval).
+pub const DEFAULT_TRIALS: u64 = 1_000_000;
+/// Most trials a scenario may ask for.
+pub const MAX_TRIALS: u64 = 10_000_000_000;
+/// Fewest trials a scenario may ask for.
+pub const MIN_TRIALS: u64 = 100;
+/// Largest scenario file read, far above any real one (a guard against feeding in a wrong file).
+pub const MAX_SCENARIO_BYTES: u64 = 4 * 1024 * 1024;
+/// Most input quantities in one scenario.
+pub const MAX_INPUTS: usize = 1000;
+
+/// A measurand of a study.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Measurand {
+    /// Its name.
+    pub name: String,
+    /// Its dimension, when known (chain measurands).
+    pub dimension: Option<Dimension>,
+    /// The unit the scenario asked to show it in (`unit = "mg"`), if any.
+    pub unit: Option<DisplayUnit>,
+    /// The formula text, for formula measurands.
+    pub formula: Option<String>,
+    /// What it is.
+    pub description: String,
+}
+
+/// A validated scenario, ready to run.
+#[derive(Clone, Debug)]
+pub struct Study {
+    /// The scenario file, as named in messages.
+    pub file: String,
+    /// Its title.
+    pub title: String,
+    /// Number of Monte Carlo trials M.
+    pub trials: u64,
+    /// Seed of the random streams.
+    pub seed: u64,
+    /// Coverage probability p.
+    pub coverage: f64,
+    /// Significant digits `ndig` for the numerical tolerance (JCGM 101 7.9.2).
+    pub digits: u32,
+    /// Whether the study involves a laser (the report then carries the laser caution).
+    pub laser: bool,
+    /// Input quantities, in file order (their column order).
+    pub inputs: Vec<InputQuantity>,
+    /// Measurands in report order: chain measurands first, then formulas in file order.
+    pub measurands: Vec<Measurand>,
+    /// The built-in chain, if any.
+    pub chain: Option<ChainKind>,
+    /// The compiled model.
+    pub model: Model,
+    /// Correlated inputs.
+    pub correlations: Correlations,
+    /// The adaptive procedure of JCGM 101 7.9, when asked for (then `trials` is the batch size).
+    pub adaptive: Option<Adaptive>,
+    /// The noise floor, when `[noise]` asks for one (then `noise_force` is among the inputs).
+    pub noise: Option<NoiseFloor>,
+    /// A sweep of one input, when `[sweep]` asks for one.
+    pub sweep: Option<Sweep>,
+    /// Names of the `[variants.NAME]` of the file (compared by `radforce compare`).
+    pub variants: Vec<String>,
+    /// Things worth knowing that do not stop the run.
+    pub warnings: Vec<String>,
+}
+
+/// A sweep of one input quantity over a range of estimates, each point a full run.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Sweep {
+    /// The input swept.
+    pub input: usize,
+    /// The estimates it takes, SI.
+    pub values: Vec<f64>,
+    /// The measurand followed.
+    pub measurand: usize,
+}
+
+impl Study {
+    /// The study with input `i` moved to the estimate `value` (a constant takes the value; a
+    /// distribution is moved, see `Distribution::with_mean`).
+    pub fn with_input_estimate(
+        &self,
+        i: usize,
+        value: f64,
+    ) -> Result<Study, crate::dist::ParameterError> {
+        let mut s = self.clone();
+        s.inputs[i].law = match &self.inputs[i].law {
+            Law::Constant(_) => Law::Constant(value),
+            Law::Distributed(d) => Law::Distributed(d.with_mean(value)?),
+        };
+        s.sweep = None;
+        Ok(s)
+    }
+
+    /// The measurands' names, comma-separated, for messages that list the valid ones.
+    pub fn measurand_names(&self) -> String {
+        self.measurands
+            .iter()
+            .map(|x| x.name.as_str())
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+}
+
+/// Settings of the adaptive Monte Carlo procedure (JCGM 101:2008 7.9.4).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Adaptive {
+    /// Significant digits `ndig` the results must be stable to.
+    pub digits: u32,
+    /// Most trials before giving up.
+    pub max_trials: u64,
+}
+
+/// Batch size of the adaptive procedure: M = max(J, 10^4) with J the smallest whole number
+/// >= 100 / (1 - p) (JCGM 101 7.9.4 b).
+pub fn adaptive_batch_trials(coverage: f64) -> u64 {
+    let j = (100.0 / (1.0 - coverage)).ceil() as u64;
+    j.max(10_000)
+}
+
+impl Study {
+    /// The factor from SI to the unit a measurand is reported in (its `unit`, else 1).
+    pub fn reporting_factor(&self, measurand: usize) -> f64 {
+        self.measurands[measurand]
+            .unit
+            .as_ref()
+            .map_or(1.0, |u| u.factor)
+    }
+}
+
+/// Default cap on the trials of an adaptive run.
+pub const DEFAULT_ADAPTIVE_MAX_TRIALS: u64 = 100_000_000;
