@@ -16,7 +16,8 @@ fn main() {
         let f = radforce::analysis::findings(&study, &s, None);
         let t2 = t.elapsed();
         let t = Instant::now();
-        let j = radforce::report::json::report_value(&f).to_string();
+        let j =
+            radforce::report::json::report_value(&radforce::report::Report::Run(&f)).to_string();
         let t3 = t.elapsed();
         let t = Instant::now();
         drop(s);

@@ -28,11 +28,11 @@ pub const MAX_SOBOL_ROWS: usize = 1 << 16;
 pub const MAX_SOBOL_DIMENSIONS: usize = 256;
 
 /// How the base samples A and B are drawn.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum BaseSampler {
-    /// Independent pseudo-random draws.
+    /// Independent pseudo-random base samples.
     Random,
-    /// An Owen-scrambled Sobol low-discrepancy sequence with inverse-CDF sampling.
+    /// A scrambled Sobol low-discrepancy sequence (at most 65536 base rows).
     Sobol,
 }
 

@@ -4,9 +4,10 @@
 //! scenario and seed give the same bytes.
 
 use super::cautions::cautions;
-use super::json::report_value;
+use super::json::JsonReport;
 use super::markdown::headline;
 use super::plots::{self, PlotFormat};
+use super::{Exporter, Report};
 use crate::analysis::Findings;
 use crate::engine::Samples;
 use serde_json::{Value, json};
@@ -126,9 +127,8 @@ pub fn bundle(
     max_rows: usize,
 ) -> Result<Vec<(String, Vec<u8>)>, String> {
     let mut files = Vec::new();
-    let mut summary = serde_json::to_string_pretty(&report_value(f)).unwrap_or_default();
-    summary.push('\n');
-    files.push(("summary.json".to_string(), summary.into_bytes()));
+    let summary = JsonReport.render(&Report::Run(f))?;
+    files.push(("summary.json".to_string(), summary));
     files.push(("budget.csv".to_string(), super::csv::budget(f)));
     files.push((
         "samples.csv".to_string(),

@@ -1,7 +1,7 @@
 //! CSV exports: the summary and the budget (full precision, SI for inputs, measurands in their
 //! reported unit), and the trials themselves.
 
-use super::Exporter;
+use super::{Context, Exporter, Report};
 use crate::analysis::Findings;
 use crate::analysis::planning::{Comparison, PlanFinding};
 use crate::engine::Samples;
@@ -49,11 +49,7 @@ pub fn summary(f: &Findings) -> Vec<u8> {
                 m.unit.symbol.clone(),
                 g(s.estimate / k),
                 g(s.standard_uncertainty / k),
-                if s.estimate != 0.0 {
-                    g(s.standard_uncertainty / s.estimate.abs())
-                } else {
-                    String::new()
-                },
+                s.relative_standard_uncertainty().map_or(String::new(), g),
                 g(s.symmetric_interval.0 / k),
                 g(s.symmetric_interval.1 / k),
                 g(s.shortest_interval.0 / k),
@@ -174,13 +170,25 @@ pub fn samples(f: &Findings, s: &Samples, max_rows: Option<usize>) -> Vec<u8> {
 }
 
 impl Exporter for CsvReport {
-    fn render(&self, f: &Findings) -> Vec<u8> {
-        let mut out = summary(f);
-        out.push(b'\n');
-        out.extend(budget(f));
-        out
+    fn new(_: &Context) -> Self {
+        CsvReport
     }
-    fn comparison(&self, c: &Comparison) -> Vec<u8> {
+    fn render(&self, report: &Report<'_>) -> Result<Vec<u8>, String> {
+        Ok(match report {
+            Report::Run(f) => {
+                let mut out = summary(f);
+                out.push(b'\n');
+                out.extend(budget(f));
+                out
+            }
+            Report::Compare(c) => comparison(c),
+            Report::Plan(p) => plan(p),
+        })
+    }
+}
+
+/// The comparison as one CSV table.
+fn comparison(c: &Comparison) -> Vec<u8> {
         let rows = c
             .rows
             .iter()
@@ -214,8 +222,10 @@ impl Exporter for CsvReport {
             ],
             rows,
         )
-    }
-    fn plan(&self, p: &PlanFinding) -> Vec<u8> {
+}
+
+/// The plan's changes as a CSV table, then the target line.
+fn plan(p: &PlanFinding) -> Vec<u8> {
         let f = &p.verification;
         let rows = p
             .proposal
@@ -242,5 +252,4 @@ impl Exporter for CsvReport {
             .into_bytes(),
         );
         out
-    }
 }

@@ -1,9 +1,9 @@
 //! Text reports of comparisons and plans.
 
 use super::cautions::cautions;
+use super::format::{duration, force_text, grouped, percent};
 use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
 use super::table::TextTable;
-use super::text::{duration, force_text, grouped, percent};
 use crate::analysis::planning::{Comparison, PlanFinding};
 
 /// "relative expanded uncertainty 0.10 % (95 %)" and the like.
@@ -94,7 +94,7 @@ pub fn comparison(c: &Comparison) -> String {
             unit.symbol.clone(),
             y,
             u,
-            relative_percent(s.standard_uncertainty, s.estimate),
+            relative_percent(s.relative_standard_uncertainty()),
             format!(
                 "{} %",
                 significant(100.0 * r.relative_expanded_uncertainty, 2)

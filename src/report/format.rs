@@ -43,14 +43,14 @@ pub fn value_and_uncertainty(x: f64, u: f64) -> (String, String, i32) {
     (fixed(x, e), fixed(u, e), e)
 }
 
-/// A relative uncertainty as a percentage with two significant digits ("0.21 %"), or "-" when
-/// the estimate is zero or smaller than its uncertainty (a relative uncertainty above 100 % says
-/// nothing useful about a quantity that is compatible with zero).
-pub fn relative_percent(u: f64, x: f64) -> String {
-    if x == 0.0 || !x.is_finite() || u >= x.abs() {
+/// A relative uncertainty (u / |y|) as a percentage with two significant digits ("0.21 %"), or
+/// "-" when there is none (the estimate is zero) or it reaches 100 % (a relative uncertainty
+/// above 100 % says nothing useful about a quantity that is compatible with zero).
+pub fn relative_percent(relative: Option<f64>) -> String {
+    let Some(rel) = relative.filter(|r| *r < 1.0) else {
         return "-".to_string();
-    }
-    let r = 100.0 * u / x.abs();
+    };
+    let r = 100.0 * rel;
     if r == 0.0 {
         return "0 %".to_string();
     }
@@ -152,6 +152,45 @@ pub fn exact(x: f64) -> String {
     format!("{x}")
 }
 
+/// A probability as a percentage ("95 %").
+pub fn percent(p: f64) -> String {
+    let s = format!("{:.4}", 100.0 * p);
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    format!("{s} %")
+}
+
+/// Group digits of a count: 1000000 -> "1 000 000" (SI Brochure 5.4.4).
+pub fn grouped(n: u64) -> String {
+    let s = n.to_string();
+    let mut out = String::new();
+    for (i, c) in s.chars().enumerate() {
+        if i > 0 && (s.len() - i).is_multiple_of(3) {
+            out.push(' ');
+        }
+        out.push(c);
+    }
+    out
+}
+
+/// A duration in readable units.
+pub fn duration(t: f64) -> String {
+    if t < 120.0 {
+        format!("{} s", significant(t, 3))
+    } else if t < 7200.0 {
+        format!("{} min", significant(t / 60.0, 3))
+    } else if t < 2.0 * 86400.0 {
+        format!("{} h", significant(t / 3600.0, 3))
+    } else {
+        format!("{} days", significant(t / 86400.0, 3))
+    }
+}
+
+/// A force in a readable unit.
+pub fn force_text(x: f64) -> String {
+    let u = crate::units::readable_unit(crate::units::Dimension::FORCE, x);
+    format!("{} {}", significant(x / u.factor, 3), u.symbol)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -179,9 +218,9 @@ mod tests {
             value_and_uncertainty(-0.0001, 2.0),
             ("0.0".into(), "2.0".into(), -1)
         );
-        assert_eq!(relative_percent(0.052, 25.0), "0.21 %");
-        assert_eq!(relative_percent(1.0, 0.0), "-");
-        assert_eq!(relative_percent(2.0, 0.0015), "-");
+        assert_eq!(relative_percent(Some(0.052 / 25.0)), "0.21 %");
+        assert_eq!(relative_percent(None), "-");
+        assert_eq!(relative_percent(Some(2.0 / 0.0015)), "-");
         assert_eq!(significant(1.0, 4), "1.000");
         assert_eq!(significant(-3.4695e-19, 3), "-3.47e-19");
         assert_eq!(significant(0.012345, 2), "0.012");

@@ -2,9 +2,10 @@
 //! tables, the figures, the method with JCGM 100/101 cited, and the cautions.
 
 use super::cautions::cautions;
+use super::{Context, Exporter, Report};
 use super::decisions_text::{target_value, target_words};
 use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
-use super::text::{grouped, percent};
+use super::format::{grouped, percent};
 use crate::analysis::planning::{Comparison, PlanFinding};
 use crate::analysis::{Findings, MeasurandFinding};
 
@@ -69,7 +70,7 @@ pub fn headline(f: &Findings, m: &MeasurandFinding) -> String {
         s.estimate / unit.factor,
         s.standard_uncertainty / unit.factor,
     );
-    let rel_u = relative_percent(s.expanded_uncertainty, s.estimate);
+    let rel_u = relative_percent(s.relative_expanded_uncertainty());
     let k = s
         .coverage_factor
         .map_or("-".to_string(), |k| format!("{k:.2}"));
@@ -126,7 +127,7 @@ impl MarkdownReport {
     }
 
     /// The report of a run.
-    pub fn report(&self, f: &Findings) -> String {
+    fn run(&self, f: &Findings) -> String {
         let mut out = format!("# {}\n\n", f.title);
         for m in &f.measurands {
             out.push_str(&headline(f, m));
@@ -160,7 +161,7 @@ impl MarkdownReport {
                     unit.symbol.clone(),
                     y,
                     u,
-                    relative_percent(s.standard_uncertainty, s.estimate),
+                    relative_percent(s.relative_standard_uncertainty()),
                     iv(s.symmetric_interval),
                     iv(s.shortest_interval),
                     s.coverage_factor.map_or("-".into(), |k| format!("{k:.2}")),
@@ -239,9 +240,9 @@ impl MarkdownReport {
         if let Some(n) = &f.noise {
             out.push_str(&format!(
                 "\n## Noise floor\n\nForce noise density {}/sqrt(Hz) at the estimates; averaged for {}, it leaves a force resolution of {}, which enters the budget as `noise_force`. Convention: {}.\n",
-                super::text::force_text(n.density),
-                super::text::duration(n.averaging_time),
-                super::text::force_text(n.resolution),
+                super::format::force_text(n.density),
+                super::format::duration(n.averaging_time),
+                super::format::force_text(n.resolution),
                 crate::scenario::PSD_CONVENTION
             ));
         }
@@ -255,7 +256,7 @@ impl MarkdownReport {
     }
 
     /// The report of a comparison.
-    pub fn comparison(&self, c: &Comparison) -> String {
+    fn comparison(&self, c: &Comparison) -> String {
         let mut order: Vec<usize> = (0..c.rows.len()).collect();
         order.sort_by_key(|i| c.rows[*i].rank);
         let best = &c.rows[order[0]];
@@ -340,7 +341,7 @@ impl MarkdownReport {
     }
 
     /// The report of a plan.
-    pub fn plan(&self, p: &PlanFinding) -> String {
+    fn plan(&self, p: &PlanFinding) -> String {
         let f = &p.verification;
         let m = &f.measurands[p.measurand];
         let mut out = format!(
@@ -425,5 +426,22 @@ impl MarkdownReport {
         out.push_str(&format!("\n## Method\n\n{METHOD} The plan uses the first-order uncertainty budget and is then checked by a Monte Carlo run.\n"));
         out.push_str(&Self::cautions(f.laser));
         out
+    }
+}
+
+impl Exporter for MarkdownReport {
+    fn new(context: &Context) -> Self {
+        MarkdownReport {
+            figures: context.figures.clone(),
+            plot_format: context.plot_format,
+        }
+    }
+    fn render(&self, report: &Report<'_>) -> Result<Vec<u8>, String> {
+        Ok(match report {
+            Report::Run(f) => self.run(f),
+            Report::Compare(c) => self.comparison(c),
+            Report::Plan(p) => self.plan(p),
+        }
+        .into_bytes())
     }
 }

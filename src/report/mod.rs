@@ -1,69 +1,91 @@
-//! Every output format, one exporter per format behind [`Exporter`]. Exporters turn
-//! [`Findings`] into bytes; they format and never compute.
+//! Every output format, one file each behind [`Exporter`], listed once in [`formats!`]. An
+//! exporter turns a [`Report`] (a run, a comparison or a plan) into bytes; it formats and never
+//! computes (it rounds and scales units, nothing more). Figures are in `plots`, the notebook
+//! bundle in `bundle`.
+//!
+//! To add a format: write `src/report/<name>.rs` with a struct and `impl Exporter` (see
+//! `csv.rs`), and add one line to the list below; `--format <name>` then offers it.
 
 pub mod bundle;
 pub mod cautions;
-pub mod csv;
-pub mod decisions_text;
+mod decisions_text;
 pub mod format;
-pub mod json;
-pub mod markdown;
 pub mod plots;
 pub mod table;
-pub mod text;
 
 use crate::analysis::Findings;
 use crate::analysis::planning::{Comparison, PlanFinding};
+pub use plots::PlotFormat;
+
+/// What a command reports.
+#[derive(Clone, Copy, Debug)]
+pub enum Report<'a> {
+    /// A run (`run`, `rank`, `merge`).
+    Run(&'a Findings),
+    /// Designs side by side (`compare`).
+    Compare(&'a Comparison),
+    /// A plan and its checking run (`plan`).
+    Plan(&'a PlanFinding),
+}
+
+impl Report<'_> {
+    /// Whether any study in the report involves a laser (the laser caution applies).
+    pub fn laser(&self) -> bool {
+        match self {
+            Report::Run(f) => f.laser,
+            Report::Compare(c) => c.rows.iter().any(|r| r.findings.laser),
+            Report::Plan(p) => p.verification.laser,
+        }
+    }
+}
+
+/// What an exporter may need besides the report: where the figures were written, for links.
+#[derive(Clone, Debug, Default)]
+pub struct Context {
+    /// The folder of `--plots`, as given.
+    pub figures: Option<String>,
+    /// The format of the figures.
+    pub plot_format: PlotFormat,
+}
 
 /// An output format.
 pub trait Exporter {
-    /// The report of a run as bytes.
-    fn render(&self, findings: &Findings) -> Vec<u8>;
-    /// The report of a comparison.
-    fn comparison(&self, c: &Comparison) -> Vec<u8>;
-    /// The report of a plan.
-    fn plan(&self, p: &PlanFinding) -> Vec<u8>;
+    /// The exporter for a context.
+    fn new(context: &Context) -> Self
+    where
+        Self: Sized;
+    /// The report as bytes; an error when a number the format must show is not finite.
+    fn render(&self, report: &Report<'_>) -> Result<Vec<u8>, String>;
 }
 
-/// The formats of `--format`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Format {
-    /// Terminal tables.
-    Text,
-    /// The JSON contract.
-    Json,
-    /// The proposal-ready report.
-    Markdown,
-    /// The summary and the budget as CSV tables.
-    Csv,
+/// The one list of output formats: each line is `Variant(module::Type)` with the help text of
+/// `--format`. It declares the modules and makes [`Format`] and [`exporter`].
+macro_rules! formats {
+    ($($(#[$doc:meta])* $variant:ident($module:ident::$ty:ident),)*) => {
+        $(pub mod $module;)*
+
+        /// The formats of `--format`.
+        #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+        pub enum Format {
+            $($(#[$doc])* $variant,)*
+        }
+
+        /// The exporter of a format.
+        pub fn exporter(format: Format, context: &Context) -> Box<dyn Exporter> {
+            match format {
+                $(Format::$variant => Box::new(<$module::$ty as Exporter>::new(context)),)*
+            }
+        }
+    };
 }
 
-/// The exporter of a format; `figures` is the folder of `--plots` and the figures' format, for
-/// the Markdown links.
-pub fn exporter(
-    format: Format,
-    figures: Option<String>,
-    plot_format: plots::PlotFormat,
-) -> Box<dyn Exporter> {
-    match format {
-        Format::Text => Box::new(text::TextReport),
-        Format::Json => Box::new(json::JsonReport),
-        Format::Markdown => Box::new(markdown::MarkdownReport {
-            figures,
-            plot_format,
-        }),
-        Format::Csv => Box::new(csv::CsvReport),
-    }
-}
-
-impl Exporter for markdown::MarkdownReport {
-    fn render(&self, f: &Findings) -> Vec<u8> {
-        self.report(f).into_bytes()
-    }
-    fn comparison(&self, c: &Comparison) -> Vec<u8> {
-        markdown::MarkdownReport::comparison(self, c).into_bytes()
-    }
-    fn plan(&self, p: &PlanFinding) -> Vec<u8> {
-        markdown::MarkdownReport::plan(self, p).into_bytes()
-    }
+formats! {
+    /// Tables for the terminal.
+    Text(text::TextReport),
+    /// The JSON report (a stable contract).
+    Json(json::JsonReport),
+    /// A proposal-ready report: plain-words summary, tables, figures, method, cautions.
+    Markdown(markdown::MarkdownReport),
+    /// The summary and the budget as CSV tables (one after the other).
+    Csv(csv::CsvReport),
 }

@@ -1,9 +1,10 @@
 //! The terminal report.
 
-use super::Exporter;
+use super::{Context, Exporter, Report};
 use super::cautions::cautions;
 use super::format::{
-    exact, fixed, input_pair, measurand_unit, relative_percent, significant, value_and_uncertainty,
+    duration, exact, fixed, force_text, grouped, input_pair, measurand_unit, percent,
+    relative_percent, significant, value_and_uncertainty,
 };
 use super::table::TextTable;
 use crate::analysis::{Findings, MeasurandFinding};
@@ -11,34 +12,22 @@ use crate::analysis::{Findings, MeasurandFinding};
 /// Human-readable tables of the results, with GUM rounding and readable units.
 pub struct TextReport;
 
-/// A probability as a percentage ("95 %").
-pub fn percent(p: f64) -> String {
-    let s = format!("{:.4}", 100.0 * p);
-    let s = s.trim_end_matches('0').trim_end_matches('.');
-    format!("{s} %")
-}
-
-/// Group digits of a count: 1000000 -> "1 000 000" (SI Brochure 5.4.4).
-pub fn grouped(n: u64) -> String {
-    let s = n.to_string();
-    let mut out = String::new();
-    for (i, c) in s.chars().enumerate() {
-        if i > 0 && (s.len() - i).is_multiple_of(3) {
-            out.push(' ');
-        }
-        out.push(c);
-    }
-    out
-}
-
 impl Exporter for TextReport {
-    fn comparison(&self, c: &crate::analysis::planning::Comparison) -> Vec<u8> {
-        super::decisions_text::comparison(c).into_bytes()
+    fn new(_: &Context) -> Self {
+        TextReport
     }
-    fn plan(&self, p: &crate::analysis::planning::PlanFinding) -> Vec<u8> {
-        super::decisions_text::plan(p).into_bytes()
+    fn render(&self, report: &Report<'_>) -> Result<Vec<u8>, String> {
+        Ok(match report {
+            Report::Run(f) => run(f),
+            Report::Compare(c) => super::decisions_text::comparison(c),
+            Report::Plan(p) => super::decisions_text::plan(p),
+        }
+        .into_bytes())
     }
-    fn render(&self, f: &Findings) -> Vec<u8> {
+}
+
+/// The report of a run.
+fn run(f: &Findings) -> String {
         let mut out = String::new();
         out.push_str(&format!("{}\n", f.title));
         out.push_str(&format!(
@@ -76,7 +65,7 @@ impl Exporter for TextReport {
                 unit.symbol.clone(),
                 y,
                 u,
-                relative_percent(s.standard_uncertainty, s.estimate),
+                relative_percent(s.relative_standard_uncertainty()),
                 interval(s.symmetric_interval),
                 interval(s.shortest_interval),
             ]);
@@ -185,8 +174,7 @@ impl Exporter for TextReport {
             out.push('\n');
         }
         out.push_str(&format!("Random streams: {}\n", f.generator));
-        out.into_bytes()
-    }
+        out
 }
 
 fn yes_no(b: bool) -> &'static str {
@@ -403,25 +391,6 @@ fn sensitivity_section(out: &mut String, f: &Findings) {
     ));
 }
 
-/// A duration in readable units.
-pub fn duration(t: f64) -> String {
-    if t < 120.0 {
-        format!("{} s", significant(t, 3))
-    } else if t < 7200.0 {
-        format!("{} min", significant(t / 60.0, 3))
-    } else if t < 2.0 * 86400.0 {
-        format!("{} h", significant(t / 3600.0, 3))
-    } else {
-        format!("{} days", significant(t / 86400.0, 3))
-    }
-}
-
-/// A force in a readable unit.
-pub fn force_text(x: f64) -> String {
-    let u = crate::units::readable_unit(crate::units::Dimension::FORCE, x);
-    format!("{} {}", significant(x / u.factor, 3), u.symbol)
-}
-
 /// The noise floor from `[noise]`.
 fn noise_section(out: &mut String, f: &Findings) {
     let Some(n) = &f.noise else { return };
@@ -477,8 +446,8 @@ fn sweep_section(out: &mut String, f: &Findings) {
             significant(pt.value / xu.factor, 4),
             y,
             u,
-            relative_percent(s.standard_uncertainty, s.estimate),
-            relative_percent(s.expanded_uncertainty, s.estimate),
+            relative_percent(s.relative_standard_uncertainty()),
+            relative_percent(s.relative_expanded_uncertainty()),
         ]);
     }
     out.push_str(&t.render());

@@ -1,5 +1,7 @@
 //! One study from start to finish: the trials (a fixed number, or the adaptive procedure), then
-//! the findings. Shared by the command line and by programs that use the library.
+//! the findings; a ranking, a comparison, a plan, a sweep; shards and their merge; the commands
+//! of the binary (`commands`, with their arguments in `options`) and the delivery of reports and
+//! files (`deliver`, `output`). Shared by the command line and by programs that use the library.
 
 use crate::analysis::planning::{
     self, Comparison, PlanFinding, Proposal, SweepFinding, SweepPoint, TargetSpec,
@@ -10,7 +12,11 @@ use crate::engine::{self, Plan, Samples, adaptive};
 use crate::error::{Error, InputError};
 use crate::scenario::{Law, Study};
 
+pub mod commands;
+pub mod deliver;
+pub mod options;
 pub mod output;
+pub mod progress;
 pub mod shard;
 
 /// How to run a study.

@@ -12,6 +12,9 @@
 //! little-endian f64: for each measurand its low tail then its high tail, of the lengths the
 //! header gives.
 
+use super::options::{RunArgs, command_line_error, load, parse_shard};
+use super::output;
+use crate::engine;
 use crate::engine::MonteCarlo;
 use crate::engine::{ChunkSummary, Samples, merge_chunks};
 use crate::error::{Error, InputError};
@@ -19,7 +22,7 @@ use crate::scenario::Study;
 use crate::stats::intervals::{intervals_from_tails, merge_tails, q_index, tails};
 use crate::stats::moments::{CoMoments, Moments};
 use crate::stats::summary::from_parts;
-use serde_json::{Value, json};
+use serde::{Deserialize, Serialize};
 
 const MAGIC: &[u8] = b"radforce-part 1\n";
 
@@ -44,12 +47,50 @@ pub struct Part {
     pub tails: Vec<(Vec<f64>, Vec<f64>)>,
 }
 
-fn moments_json(m: &Moments) -> Value {
-    json!([m.count, m.mean, m.m2])
+/// The header of a partial result (JSON, compact): the run, the shard and its chunk summaries.
+#[derive(Serialize, Deserialize)]
+struct Header {
+    radforce_version: String,
+    generator: String,
+    scenario_file: String,
+    scenario_text: String,
+    trials: u64,
+    seed: u64,
+    coverage: f64,
+    shard: u64,
+    shards: u64,
+    chunks: Vec<ChunkJson>,
+    /// Per measurand: the lengths of its low and high tails.
+    tail_lengths: Vec<(usize, usize)>,
 }
 
-fn co_json(c: &CoMoments) -> Value {
-    json!([c.count, c.mean_x, c.mean_y, c.m2x, c.m2y, c.cxy])
+/// Moments as [count, mean, m2].
+type MomentsJson = (u64, f64, f64);
+/// Joint moments as [count, mean_x, mean_y, m2x, m2y, cxy].
+type CoMomentsJson = (u64, f64, f64, f64, f64, f64);
+
+/// A chunk summary in the header.
+#[derive(Serialize, Deserialize)]
+struct ChunkJson {
+    index: u64,
+    moments: Vec<MomentsJson>,
+    input_pairs: Vec<CoMomentsJson>,
+    measurand_pairs: Vec<CoMomentsJson>,
+}
+
+fn co_json(c: &CoMoments) -> CoMomentsJson {
+    (c.count, c.mean_x, c.mean_y, c.m2x, c.m2y, c.cxy)
+}
+
+fn co_read(c: &CoMomentsJson) -> CoMoments {
+    CoMoments {
+        count: c.0,
+        mean_x: c.1,
+        mean_y: c.2,
+        m2x: c.3,
+        m2y: c.4,
+        cxy: c.5,
+    }
 }
 
 /// The bytes of a shard's partial result.
@@ -66,32 +107,30 @@ pub fn write_part(
         .iter()
         .map(|col| tails(col, k.min(col.len())))
         .collect();
-    let chunks: Vec<Value> = samples
-        .chunks
-        .iter()
-        .map(|c| {
-            json!({
-                "index": c.index,
-                "moments": c.moments.iter().map(moments_json).collect::<Vec<_>>(),
-                "input_pairs": c.input_pairs.iter().map(co_json).collect::<Vec<_>>(),
-                "measurand_pairs": c.measurand_pairs.iter().map(co_json).collect::<Vec<_>>(),
+    let header = Header {
+        radforce_version: env!("CARGO_PKG_VERSION").into(),
+        generator: crate::engine::generator_description(),
+        scenario_file: study.file.clone(),
+        scenario_text: scenario_text.into(),
+        trials: study.trials,
+        seed: study.seed,
+        coverage: study.coverage,
+        shard,
+        shards,
+        chunks: samples
+            .chunks
+            .iter()
+            .map(|c| ChunkJson {
+                index: c.index,
+                moments: c.moments.iter().map(|m| (m.count, m.mean, m.m2)).collect(),
+                input_pairs: c.input_pairs.iter().map(co_json).collect(),
+                measurand_pairs: c.measurand_pairs.iter().map(co_json).collect(),
             })
-        })
-        .collect();
-    let header = json!({
-        "radforce_version": env!("CARGO_PKG_VERSION"),
-        "generator": crate::engine::generator_description(),
-        "scenario_file": study.file,
-        "scenario_text": scenario_text,
-        "trials": study.trials,
-        "seed": study.seed,
-        "coverage": study.coverage,
-        "shard": shard,
-        "shards": shards,
-        "chunks": chunks,
-        "tail_lengths": tails.iter().map(|(a, b)| json!([a.len(), b.len()])).collect::<Vec<_>>(),
-    });
-    let header = header.to_string().into_bytes();
+            .collect(),
+        tail_lengths: tails.iter().map(|(a, b)| (a.len(), b.len())).collect(),
+    };
+    // Serialising the header cannot fail: it has no maps with non-string keys.
+    let header = serde_json::to_vec(&header).unwrap_or_default();
     let mut out = Vec::with_capacity(MAGIC.len() + 8 + header.len());
     out.extend_from_slice(MAGIC);
     out.extend_from_slice(&(header.len() as u64).to_le_bytes());
@@ -108,31 +147,6 @@ fn bad(file: &str, message: impl Into<String>) -> Error {
     InputError::file(file, message)
         .with_example("radforce merge part-0.rfp part-1.rfp part-2.rfp")
         .into()
-}
-
-fn num(v: &Value) -> Option<f64> {
-    v.as_f64()
-}
-
-fn read_moments(v: &Value) -> Option<Moments> {
-    let a = v.as_array()?;
-    Some(Moments {
-        count: a.first()?.as_u64()?,
-        mean: num(a.get(1)?)?,
-        m2: num(a.get(2)?)?,
-    })
-}
-
-fn read_co(v: &Value) -> Option<CoMoments> {
-    let a = v.as_array()?;
-    Some(CoMoments {
-        count: a.first()?.as_u64()?,
-        mean_x: num(a.get(1)?)?,
-        mean_y: num(a.get(2)?)?,
-        m2x: num(a.get(3)?)?,
-        m2y: num(a.get(4)?)?,
-        cxy: num(a.get(5)?)?,
-    })
 }
 
 /// Read a partial result; `file` names it in messages.
@@ -154,39 +168,29 @@ pub fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
     if body.len() < len {
         return Err(broken());
     }
-    let header: Value = serde_json::from_slice(&body[..len]).map_err(|_| broken())?;
-    let get_u64 = |k: &str| header[k].as_u64().ok_or_else(broken);
-    let chunks = header["chunks"]
-        .as_array()
-        .ok_or_else(broken)?
+    let header: Header = serde_json::from_slice(&body[..len]).map_err(|_| broken())?;
+    let chunks = header
+        .chunks
         .iter()
-        .map(|c| {
-            Some(ChunkSummary {
-                index: c["index"].as_u64()?,
-                moments: c["moments"]
-                    .as_array()?
-                    .iter()
-                    .map(read_moments)
-                    .collect::<Option<_>>()?,
-                input_pairs: c["input_pairs"]
-                    .as_array()?
-                    .iter()
-                    .map(read_co)
-                    .collect::<Option<_>>()?,
-                measurand_pairs: c["measurand_pairs"]
-                    .as_array()?
-                    .iter()
-                    .map(read_co)
-                    .collect::<Option<_>>()?,
-            })
+        .map(|c| ChunkSummary {
+            index: c.index,
+            moments: c
+                .moments
+                .iter()
+                .map(|m| Moments {
+                    count: m.0,
+                    mean: m.1,
+                    m2: m.2,
+                })
+                .collect(),
+            input_pairs: c.input_pairs.iter().map(co_read).collect(),
+            measurand_pairs: c.measurand_pairs.iter().map(co_read).collect(),
         })
-        .collect::<Option<Vec<_>>>()
-        .ok_or_else(broken)?;
-    let lengths = header["tail_lengths"].as_array().ok_or_else(broken)?;
+        .collect();
     let mut data = &body[len..];
-    let mut tails = Vec::with_capacity(lengths.len());
+    let mut tails = Vec::with_capacity(header.tail_lengths.len());
     let mut take = |n: usize| -> Option<Vec<f64>> {
-        if data.len() < 8 * n {
+        if data.len() / 8 < n {
             return None;
         }
         let (head, tail) = data.split_at(8 * n);
@@ -197,11 +201,7 @@ pub fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
                 .collect(),
         )
     };
-    for l in lengths {
-        let (a, b) = (
-            l[0].as_u64().ok_or_else(broken)? as usize,
-            l[1].as_u64().ok_or_else(broken)? as usize,
-        );
+    for &(a, b) in &header.tail_lengths {
         let lo = take(a).ok_or_else(broken)?;
         let hi = take(b).ok_or_else(broken)?;
         tails.push((lo, hi));
@@ -210,18 +210,12 @@ pub fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
         return Err(broken());
     }
     Ok(Part {
-        scenario_text: header["scenario_text"]
-            .as_str()
-            .ok_or_else(broken)?
-            .to_string(),
-        scenario_file: header["scenario_file"]
-            .as_str()
-            .ok_or_else(broken)?
-            .to_string(),
-        trials: get_u64("trials")?,
-        seed: get_u64("seed")?,
-        shard: get_u64("shard")?,
-        shards: get_u64("shards")?,
+        scenario_text: header.scenario_text,
+        scenario_file: header.scenario_file,
+        trials: header.trials,
+        seed: header.seed,
+        shard: header.shard,
+        shards: header.shards,
         chunks,
         tails,
     })
@@ -300,4 +294,63 @@ pub fn merge_parts(parts: &[(String, Part)]) -> Result<(Study, MonteCarlo), Erro
             input_shapes,
         },
     ))
+}
+
+/// `radforce run FILE --shard K/N -o PART`: make only the shard's chunks and write the partial
+/// result.
+pub fn run_shard(args: &RunArgs, shard: &str, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
+    let (k, n) = parse_shard(shard)?;
+    let (study, options) = load(&args.study)?;
+    if study.adaptive.is_some() {
+        return Err(command_line_error(
+            "--shard",
+            "an adaptive run cannot be split into shards; give --trials",
+            "--trials 100000000 --shard 0/4",
+        ));
+    }
+    let Some(path) = &args.out.output else {
+        return Err(command_line_error(
+            "--output",
+            "a shard writes its partial result to a file",
+            "--shard 0/4 --output part-0.rfp",
+        ));
+    };
+    output::check_writable(path, args.out.force)?;
+    let text = std::fs::read_to_string(&args.study.file).map_err(|e| {
+        InputError::file(
+            study.file.clone(),
+            format!("cannot read the scenario file: {e}"),
+        )
+    })?;
+    if !args.out.quiet {
+        for w in &study.warnings {
+            warn(w);
+        }
+    }
+    let plan = engine::Plan {
+        shard: Some((k, n)),
+        ..engine::Plan::new(study.trials, study.seed)
+    };
+    let needed = engine::memory::sample_bytes(
+        plan.chunks().iter().map(|c| c.1 as u64).sum(),
+        study.model.measurands,
+        study.coverage,
+    );
+    if needed > options.memory_budget {
+        return Err(command_line_error(
+            "--shard",
+            format!(
+                "the shard's values would take {}, more than the memory budget of {}; use more shards",
+                engine::memory::format_bytes(needed),
+                engine::memory::format_bytes(options.memory_budget)
+            ),
+            "--shard 0/16",
+        ));
+    }
+    let bytes = engine::with_threads(args.study.threads, || -> Result<Vec<u8>, Error> {
+        let samples = engine::simulate(&study, plan)?;
+        Ok(write_part(&study, &text, &samples, k, n))
+    })??;
+    output::write_atomic(path, &bytes, args.out.force)?;
+    Ok(Vec::new())
 }

@@ -20,6 +20,18 @@ pub struct Summary {
     pub coverage_factor: Option<f64>,
 }
 
+impl Summary {
+    /// u(y) / |y|, the relative standard uncertainty; `None` when the estimate is 0.
+    pub fn relative_standard_uncertainty(&self) -> Option<f64> {
+        (self.estimate != 0.0).then(|| self.standard_uncertainty / self.estimate.abs())
+    }
+
+    /// U / |y|, the relative expanded uncertainty; `None` when the estimate is 0.
+    pub fn relative_expanded_uncertainty(&self) -> Option<f64> {
+        (self.estimate != 0.0).then(|| self.expanded_uncertainty / self.estimate.abs())
+    }
+}
+
 /// Summarise the values of one measurand given their moments and the coverage probability.
 pub fn summarize(values: &[f64], moments: &Moments, coverage: f64) -> Summary {
     from_parts(moments, &coverage_intervals(values, coverage))

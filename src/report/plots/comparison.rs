@@ -1,6 +1,6 @@
 //! The coverage intervals of several designs side by side, each relative to its own estimate.
 
-use super::super::text::percent;
+use super::super::format::percent;
 use crate::analysis::planning::Comparison;
 use plotters::coord::Shift;
 use plotters::prelude::*;

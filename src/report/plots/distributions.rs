@@ -3,7 +3,7 @@
 //! stated density.
 
 use super::super::format::measurand_unit;
-use super::super::text::percent;
+use super::super::format::percent;
 use crate::analysis::{Findings, InputFinding, MeasurandFinding, Shape};
 use plotters::coord::Shift;
 use plotters::prelude::*;

@@ -57,11 +57,12 @@ pub fn ensure_font() {
 }
 
 /// Image formats of the figures.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, clap::ValueEnum)]
 pub enum PlotFormat {
-    /// Scalable vector graphics (text).
+    /// Scalable vector graphics.
+    #[default]
     Svg,
-    /// Portable network graphics (bitmap).
+    /// Portable network graphics.
     Png,
 }
 
@@ -239,6 +240,18 @@ pub fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, String> 
         push(chart!(format, (720, 480), |a| sweep::draw(a, f, sw))?);
     }
     Ok(out)
+}
+
+/// Every figure of a report: those of a run, of a comparison, or of a plan's checking run.
+pub fn report_figures(
+    report: &super::Report<'_>,
+    format: PlotFormat,
+) -> Result<Vec<Figure>, String> {
+    match report {
+        super::Report::Run(f) => figures(f, format),
+        super::Report::Compare(c) => comparison_figures(c, format),
+        super::Report::Plan(p) => figures(&p.verification, format),
+    }
 }
 
 /// The figure of a comparison: every design's coverage interval relative to its estimate.

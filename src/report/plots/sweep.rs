@@ -1,6 +1,6 @@
 //! The relative uncertainty of a measurand along a sweep of one input.
 
-use super::super::text::percent;
+use super::super::format::percent;
 use crate::analysis::Findings;
 use crate::analysis::planning::SweepFinding;
 use plotters::coord::Shift;
@@ -26,12 +26,22 @@ where
     let rel_u: Vec<f64> = sw
         .points
         .iter()
-        .map(|p| 100.0 * p.summary.standard_uncertainty / p.summary.estimate.abs())
+        .map(|p| {
+            100.0
+                * p.summary
+                    .relative_standard_uncertainty()
+                    .unwrap_or(f64::NAN)
+        })
         .collect();
     let rel_big: Vec<f64> = sw
         .points
         .iter()
-        .map(|p| 100.0 * p.summary.expanded_uncertainty / p.summary.estimate.abs())
+        .map(|p| {
+            100.0
+                * p.summary
+                    .relative_expanded_uncertainty()
+                    .unwrap_or(f64::NAN)
+        })
         .collect();
     let (x0, x1) = (
         xs.iter().copied().fold(f64::INFINITY, f64::min),

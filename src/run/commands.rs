@@ -1,0 +1,259 @@
+//! The commands of the `radforce` binary, from parsed arguments to the bytes for stdout.
+//! Warnings go through `warn` (the binary prints them on stderr, unless `--quiet`); the report
+//! goes to its file, or back to the caller.
+
+use super::deliver::{check_outputs, deliver};
+use super::options::{
+    self, CompareArgs, ExportArgs, MergeArgs, PlanArgs, RankArgs, RunArgs, UncertaintyKind,
+    command_line_error, load,
+};
+use super::progress::Progress;
+use super::{RankOptions, RunOptions, output, shard};
+use crate::analysis::Findings;
+use crate::engine;
+use crate::error::{Error, InputError, RunError};
+use crate::report::{self, Report};
+use crate::scenario::{self, Study};
+use std::path::{Path, PathBuf};
+
+/// Pass a study's warnings on, unless quiet.
+fn warn_all(study: &Study, quiet: bool, warn: &dyn Fn(&str)) {
+    if !quiet {
+        for w in &study.warnings {
+            warn(w);
+        }
+    }
+}
+
+fn numerical(m: String) -> Error {
+    Error::Run(RunError::Numerical(m))
+}
+
+/// `radforce run`: propagate and report (or one shard of the run, with `--shard`).
+pub fn run(args: &RunArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
+    if let Some(text) = &args.shard {
+        return shard::run_shard(args, text, warn);
+    }
+    let (study, mut options) = load(&args.study)?;
+    check_outputs(&args.out)?;
+    if let Some(path) = &args.samples {
+        output::check_writable(path, args.out.force)?;
+    }
+    // Input columns are kept for the input figures and the samples file.
+    options.keep_inputs = args.out.plots.is_some() || args.samples.is_some();
+    if args.samples.is_some() && !super::fits_in_memory(&study, &options) {
+        return Err(command_line_error(
+            "--samples",
+            "the trials do not fit the memory budget, so they cannot be written out; lower --trials or raise --memory-budget",
+            "--samples trials.csv --samples-max 100000",
+        ));
+    }
+    if !super::fits_in_memory(&study, &options) && args.samples.is_none() {
+        // Figures of the inputs need their columns; without room, draw the others only.
+        options.keep_inputs = false;
+    }
+    super::check_memory(&study, &options)?;
+    warn_all(&study, args.out.quiet, warn);
+    let progress = Progress::start(args.out.quiet, super::expected_trials(&study, &options));
+    let result = engine::with_threads(args.study.threads, || super::sweep_study(&study, &options));
+    progress.finish();
+    let (findings, samples) = result??;
+    if let (Some(path), Some(samples)) = (&args.samples, &samples) {
+        let bytes = report::csv::samples(&findings, samples, args.samples_max);
+        output::write_atomic(path, &bytes, args.out.force)?;
+    }
+    deliver(Report::Run(&findings), &args.out)
+}
+
+/// `radforce rank`: the Sobol sensitivity ranking beside an ordinary run.
+pub fn rank(args: &RankArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
+    let (study, options) = load(&args.study)?;
+    check_outputs(&args.out)?;
+    let rank = RankOptions {
+        base_rows: args.base_trials,
+        sampler: args.sampler,
+        replicates: args.replicates,
+    };
+    super::check_rank(&study, &rank)?;
+    super::check_memory(
+        &study,
+        &RunOptions {
+            keep_inputs: true,
+            ..options
+        },
+    )?;
+    warn_all(&study, args.out.quiet, warn);
+    let progress = Progress::start(args.out.quiet, None);
+    let findings = engine::with_threads(args.study.threads, || {
+        super::rank_study(&study, &options, &rank)
+    });
+    progress.finish();
+    let findings = findings??;
+    deliver(Report::Run(&findings), &args.out)
+}
+
+/// `radforce compare`: designs side by side, paired.
+pub fn compare(args: &CompareArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
+    options::check_threads(args.threads)?;
+    check_outputs(&args.out)?;
+    let mut designs = Vec::new();
+    for file in &args.files {
+        designs.extend(scenario::load_designs(file)?);
+    }
+    if let Some((_, first)) = designs.first_mut() {
+        options::override_study(first, args.trials, args.seed)?;
+    }
+    let options = RunOptions {
+        memory_budget: options::parse_budget(&args.memory_budget)?,
+        keep_inputs: false,
+    };
+    for (_, s) in &designs {
+        warn_all(s, args.out.quiet, warn);
+    }
+    let progress = Progress::start(args.out.quiet, None);
+    let comparison = engine::with_threads(args.threads, || {
+        super::compare_designs(&designs, &options, args.measurand.as_deref())
+    });
+    progress.finish();
+    let comparison = comparison??;
+    deliver(Report::Compare(&comparison), &args.out)
+}
+
+/// `radforce plan`: what must improve to reach a target, checked by Monte Carlo.
+pub fn plan(args: &PlanArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
+    let (study, options) = load(&args.study)?;
+    check_outputs(&args.out)?;
+    let m = options::measurand_index(&study, args.measurand.as_deref())?;
+    let spec = options::parse_target(
+        &study,
+        m,
+        &args.target,
+        args.uncertainty == UncertaintyKind::Expanded,
+    )?;
+    super::check_memory(&study, &options)?;
+    warn_all(&study, args.out.quiet, warn);
+    let progress = Progress::start(args.out.quiet, None);
+    let plan = engine::with_threads(args.study.threads, || {
+        super::plan_study(&study, &options, spec, m)
+    });
+    progress.finish();
+    let plan = plan??;
+    deliver(Report::Plan(&plan), &args.out)
+}
+
+/// `radforce merge`: the report of a whole run from its shards' partial results.
+pub fn merge(args: &MergeArgs) -> Result<Vec<u8>, Error> {
+    check_outputs(&args.out)?;
+    let mut parts = Vec::new();
+    for p in &args.parts {
+        let shown = p.display().to_string();
+        let bytes = std::fs::read(p).map_err(|e| {
+            InputError::file(&shown, format!("cannot read the partial result: {e}"))
+        })?;
+        parts.push((shown.clone(), shard::read_part(&bytes, &shown)?));
+    }
+    let findings = engine::with_threads(None, || -> Result<Findings, Error> {
+        let (study, mc) = shard::merge_parts(&parts)?;
+        Ok(crate::analysis::findings_from(&study, &mc, None))
+    })??;
+    deliver(Report::Run(&findings), &args.out)
+}
+
+/// `radforce export`: the notebook-ready bundle.
+pub fn export(args: &ExportArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
+    let (study, mut options) = load(&args.study)?;
+    if args.dir.exists() && !args.dir.is_dir() {
+        return Err(
+            InputError::file(args.dir.display().to_string(), "exists and is not a folder")
+                .with_example("radforce export data/torsion-vacuum-20w.toml notebooks-export")
+                .into(),
+        );
+    }
+    options.keep_inputs = true;
+    if !super::fits_in_memory(&study, &options) {
+        return Err(command_line_error(
+            "--trials",
+            "the bundle needs the trials in memory, and they do not fit the memory budget",
+            "--trials 1000000",
+        ));
+    }
+    warn_all(&study, args.quiet, warn);
+    let progress = Progress::start(args.quiet, super::expected_trials(&study, &options));
+    let (findings, samples) =
+        engine::with_threads(args.study.threads, || super::run_study(&study, &options))??;
+    progress.finish();
+    let samples =
+        samples.ok_or_else(|| numerical("the bundle needs the trials in memory".into()))?;
+    let files = report::bundle::bundle(&findings, &samples, args.samples_max).map_err(numerical)?;
+    // Refuse before writing anything if any file would be replaced without --force.
+    for (name, _) in &files {
+        output::check_writable(&args.dir.join(name), args.force)?;
+    }
+    for (name, bytes) in &files {
+        let path = args.dir.join(name);
+        if let Some(parent) = path.parent() {
+            std::fs::create_dir_all(parent).map_err(|e| RunError::Output {
+                path: parent.display().to_string(),
+                message: e.to_string(),
+            })?;
+        }
+        output::write_atomic(&path, bytes, args.force)?;
+    }
+    Ok(format!("wrote {} files into {}\n", files.len(), args.dir.display()).into_bytes())
+}
+
+/// `radforce check`: validate a scenario and say what it holds.
+pub fn check(file: &Path) -> Result<Vec<u8>, Error> {
+    let study = scenario::load_file(file)?;
+    let names: Vec<&str> = study.measurands.iter().map(|m| m.name.as_str()).collect();
+    let mut text = format!(
+        "{}: valid. {} input quantities, measurands: {}{}; {}, seed {}, coverage {}\n",
+        study.file,
+        study.inputs.len(),
+        names.join(", "),
+        study
+            .chain
+            .map_or(String::new(), |c| format!(" (chain {})", c.spec().name)),
+        match study.adaptive {
+            Some(a) => format!("adaptive to {} significant digits", a.digits),
+            None => format!("M = {} trials", study.trials),
+        },
+        study.seed,
+        study.coverage
+    );
+    for w in &study.warnings {
+        text.push_str(&format!("warning: {w}\n"));
+    }
+    Ok(text.into_bytes())
+}
+
+/// The commented starter scenario of `radforce new`.
+const STARTER: &str = include_str!("../starter.toml");
+
+/// `radforce new NAME`: write a commented starter scenario that runs as written.
+pub fn new_scenario(name: &str, force: bool) -> Result<Vec<u8>, Error> {
+    let path = if name.ends_with(".toml") {
+        PathBuf::from(name)
+    } else {
+        PathBuf::from(format!("{name}.toml"))
+    };
+    let title = path
+        .file_stem()
+        .map_or("new study".into(), |s| s.to_string_lossy().into_owned());
+    let text = STARTER.replacen("Starter study", &title.replace('"', "'"), 1);
+    output::write_atomic(&path, text.as_bytes(), force)?;
+    Ok(format!(
+        "wrote {}; run it with: radforce run {}\n",
+        path.display(),
+        path.display()
+    )
+    .into_bytes())
+}
+
+/// `radforce schema`: the JSON Schema of the scenario file.
+pub fn schema() -> Vec<u8> {
+    let mut text =
+        serde_json::to_string_pretty(&scenario::schema::scenario_schema()).unwrap_or_default();
+    text.push('\n');
+    text.into_bytes()
+}

@@ -1,0 +1,350 @@
+//! What the commands take: the scenario and how to run it, where the report goes, and the
+//! command-line values that need reading (`--trials`, `--seed`, `--memory-budget`, `--target`,
+//! `--measurand`, `--shard`). The argument structs derive clap's `Args`, so the binary only
+//! composes them; their doc comments are the help text.
+
+use super::RunOptions;
+use crate::analysis::planning::TargetSpec;
+use crate::engine;
+use crate::engine::sensitivity::BaseSampler;
+use crate::error::{Error, InputError};
+use crate::report::{Format, PlotFormat};
+use crate::scenario::{self, Study};
+use crate::units::{Dimension, parse_quantity};
+use std::path::PathBuf;
+
+/// An error in a command-line value (exit code 2), naming the option and a valid example.
+pub fn command_line_error(key: &str, message: impl Into<String>, example: &str) -> Error {
+    InputError {
+        file: "command line".into(),
+        location: None,
+        key: Some(key.into()),
+        message: message.into(),
+        example: Some(example.into()),
+    }
+    .into()
+}
+
+/// The scenario and how to run it.
+#[derive(clap::Args, Clone, Debug)]
+pub struct StudyArgs {
+    /// The scenario file (TOML).
+    pub file: PathBuf,
+    /// Worker threads (default: all cores). Results do not depend on it.
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Override the scenario's number of trials M.
+    #[arg(long)]
+    pub trials: Option<u64>,
+    /// Override the scenario's seed.
+    #[arg(long)]
+    pub seed: Option<u64>,
+    /// Most memory the run may hold, e.g. 8GiB (default: half of this machine's memory); a
+    /// plain run beyond it is made in more passes, with the same results.
+    #[arg(long)]
+    pub memory_budget: Option<String>,
+}
+
+/// Where and how the report goes.
+#[derive(clap::Args, Clone, Debug)]
+pub struct OutputArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value = "text")]
+    pub format: Format,
+    /// Write the report to this file instead of stdout.
+    #[arg(short, long)]
+    pub output: Option<PathBuf>,
+    /// Write the figures into this folder.
+    #[arg(long)]
+    pub plots: Option<PathBuf>,
+    /// Format of the figures.
+    #[arg(long, value_enum, default_value = "svg")]
+    pub plot_format: PlotFormat,
+    /// Replace existing output files.
+    #[arg(long)]
+    pub force: bool,
+    /// Print no warnings on stderr.
+    #[arg(short, long)]
+    pub quiet: bool,
+}
+
+/// `radforce run`.
+#[derive(clap::Args, Clone, Debug)]
+pub struct RunArgs {
+    #[command(flatten)]
+    pub study: StudyArgs,
+    #[command(flatten)]
+    pub out: OutputArgs,
+    /// Write the trials (inputs and measurands) to this CSV file.
+    #[arg(long)]
+    pub samples: Option<PathBuf>,
+    /// Write at most this many trials to --samples, evenly thinned.
+    #[arg(long, requires = "samples")]
+    pub samples_max: Option<usize>,
+    /// Run only shard K of N (chunks k with k mod N = K) and write a partial result to --output.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<String>,
+}
+
+/// `radforce export`.
+#[derive(clap::Args, Clone, Debug)]
+pub struct ExportArgs {
+    #[command(flatten)]
+    pub study: StudyArgs,
+    /// The folder to write the bundle into (created if missing).
+    pub dir: PathBuf,
+    /// Trials written to samples.csv, evenly thinned.
+    #[arg(long, default_value_t = crate::report::bundle::DEFAULT_SAMPLE_ROWS)]
+    pub samples_max: usize,
+    /// Replace existing files in the folder.
+    #[arg(long)]
+    pub force: bool,
+    /// Print no warnings and no progress on stderr.
+    #[arg(short, long)]
+    pub quiet: bool,
+}
+
+/// `radforce merge`.
+#[derive(clap::Args, Clone, Debug)]
+pub struct MergeArgs {
+    /// The partial results of every shard of one run.
+    #[arg(required = true)]
+    pub parts: Vec<PathBuf>,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+/// `radforce rank`.
+#[derive(clap::Args, Clone, Debug)]
+pub struct RankArgs {
+    #[command(flatten)]
+    pub study: StudyArgs,
+    #[command(flatten)]
+    pub out: OutputArgs,
+    /// Base rows N of the sensitivity design (N (k + 2) model runs).
+    #[arg(long, default_value_t = super::DEFAULT_BASE_ROWS)]
+    pub base_trials: usize,
+    /// How the base samples are drawn.
+    #[arg(long, value_enum, default_value = "random")]
+    pub sampler: BaseSampler,
+    /// Bootstrap resamples for the confidence intervals.
+    #[arg(long, default_value_t = super::DEFAULT_REPLICATES)]
+    pub replicates: usize,
+}
+
+/// `radforce compare`.
+#[derive(clap::Args, Clone, Debug)]
+pub struct CompareArgs {
+    /// Scenario files; a file with [variants.NAME] tables adds one design per variant.
+    #[arg(required = true)]
+    pub files: Vec<PathBuf>,
+    /// The measurand to compare (default: the first of the first design).
+    #[arg(long)]
+    pub measurand: Option<String>,
+    /// Worker threads (default: all cores).
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Trials for every design (default: the first design's).
+    #[arg(long)]
+    pub trials: Option<u64>,
+    /// Seed for every design (default: the first design's).
+    #[arg(long)]
+    pub seed: Option<u64>,
+    /// Most memory the run of one design may hold, e.g. 8GiB.
+    #[arg(long)]
+    pub memory_budget: Option<String>,
+    #[command(flatten)]
+    pub out: OutputArgs,
+}
+
+/// Whether a plan's target is an expanded or a standard uncertainty.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum UncertaintyKind {
+    /// The expanded uncertainty at the scenario's coverage probability.
+    Expanded,
+    /// The standard uncertainty.
+    Standard,
+}
+
+/// `radforce plan`.
+#[derive(clap::Args, Clone, Debug)]
+pub struct PlanArgs {
+    #[command(flatten)]
+    pub study: StudyArgs,
+    #[command(flatten)]
+    pub out: OutputArgs,
+    /// The target: relative ("0.1%", "500 ppm") or absolute in the measurand's unit ("0.02 W").
+    #[arg(long)]
+    pub target: String,
+    /// Whether the target is an expanded or a standard uncertainty.
+    #[arg(long, value_enum, default_value = "expanded")]
+    pub uncertainty: UncertaintyKind,
+    /// The measurand (required when the scenario has several).
+    #[arg(long)]
+    pub measurand: Option<String>,
+}
+
+/// Read `--memory-budget` (default: half of this machine's memory).
+pub fn parse_budget(text: &Option<String>) -> Result<u64, Error> {
+    match text {
+        Some(text) => engine::memory::parse_bytes(text).ok_or_else(|| {
+            command_line_error(
+                "--memory-budget",
+                format!("cannot read {text:?} as a size"),
+                "--memory-budget 8GiB",
+            )
+        }),
+        None => Ok(engine::memory::default_budget()),
+    }
+}
+
+/// Apply `--trials` and `--seed` to a study (with the checks the scenario's own values get).
+pub fn override_study(
+    study: &mut Study,
+    trials: Option<u64>,
+    seed: Option<u64>,
+) -> Result<(), Error> {
+    if let Some(m) = trials {
+        if !(scenario::MIN_TRIALS..=scenario::MAX_TRIALS).contains(&m) {
+            return Err(command_line_error(
+                "--trials",
+                format!(
+                    "{m} is out of range: expected {} to {}",
+                    scenario::MIN_TRIALS,
+                    scenario::MAX_TRIALS
+                ),
+                "--trials 1000000",
+            ));
+        }
+        let q = (study.coverage * m as f64 + 0.5).floor() as u64;
+        if m <= q {
+            return Err(command_line_error(
+                "--trials",
+                format!("{m} trials leave no trial outside the coverage interval (JCGM 101 7.7)"),
+                "--trials 1000000",
+            ));
+        }
+        study.trials = m;
+        study.adaptive = None;
+    }
+    if let Some(s) = seed {
+        study.seed = s;
+    }
+    Ok(())
+}
+
+/// Refuse `--threads 0`.
+pub fn check_threads(threads: Option<usize>) -> Result<(), Error> {
+    if let Some(0) = threads {
+        return Err(command_line_error(
+            "--threads",
+            "needs at least 1 thread",
+            "--threads 2",
+        ));
+    }
+    Ok(())
+}
+
+/// Load the scenario and apply the command-line overrides.
+pub fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
+    let mut study = scenario::load_file(&args.file)?;
+    override_study(&mut study, args.trials, args.seed)?;
+    check_threads(args.threads)?;
+    let options = RunOptions {
+        memory_budget: parse_budget(&args.memory_budget)?,
+        keep_inputs: false,
+    };
+    Ok((study, options))
+}
+
+/// The measurand `--measurand` names, or the only (or the chain's first) one.
+pub fn measurand_index(study: &Study, name: Option<&str>) -> Result<usize, Error> {
+    match name {
+        Some(name) => study
+            .measurands
+            .iter()
+            .position(|x| x.name == name)
+            .ok_or_else(|| {
+                command_line_error(
+                    "--measurand",
+                    format!(
+                        "no measurand `{name}` (the scenario has: {})",
+                        study.measurand_names()
+                    ),
+                    "--measurand power",
+                )
+            }),
+        None if study.chain.is_some() || study.measurands.len() == 1 => Ok(0),
+        None => Err(command_line_error(
+            "--measurand",
+            "the scenario has several measurands: name the one to plan for",
+            "--measurand power",
+        )),
+    }
+}
+
+/// Read `--target`: a percentage or ppm is relative; a quantity needs the measurand's dimension;
+/// a bare number is in the measurand's reporting unit.
+pub fn parse_target(
+    study: &Study,
+    m: usize,
+    text: &str,
+    expanded: bool,
+) -> Result<TargetSpec, Error> {
+    let example = "--target 0.1%   or   --target \"0.02 W\"";
+    let q = parse_quantity(text).map_err(|e| {
+        command_line_error("--target", format!("cannot read {text:?}: {e}"), example)
+    })?;
+    let meas = &study.measurands[m];
+    let (value, relative) = match &q.unit {
+        Some(u) if u.dimension == Dimension::NONE && (u.text == "%" || u.text == "ppm") => {
+            (q.si, true)
+        }
+        Some(u) => {
+            if let Some(d) = meas.dimension
+                && d != u.dimension
+            {
+                return Err(command_line_error(
+                    "--target",
+                    format!(
+                        "`{}` is {}, but {text:?} is {}",
+                        meas.name,
+                        d.kind(),
+                        u.dimension.kind()
+                    ),
+                    example,
+                ));
+            }
+            (q.si, false)
+        }
+        None => (q.si * study.reporting_factor(m), false),
+    };
+    if value.is_nan() || value <= 0.0 {
+        return Err(command_line_error(
+            "--target",
+            "the target must be greater than 0",
+            example,
+        ));
+    }
+    Ok(TargetSpec {
+        value,
+        relative,
+        expanded,
+    })
+}
+
+/// Read `--shard K/N`.
+pub fn parse_shard(text: &str) -> Result<(u64, u64), Error> {
+    let example = "--shard 0/3";
+    let parsed = text
+        .split_once('/')
+        .and_then(|(k, n)| Some((k.trim().parse::<u64>().ok()?, n.trim().parse::<u64>().ok()?)));
+    match parsed {
+        Some((k, n)) if n >= 1 && k < n && n <= 100_000 => Ok((k, n)),
+        _ => Err(command_line_error(
+            "--shard",
+            format!("{text:?} is not a shard K/N with 0 <= K < N"),
+            example,
+        )),
+    }
+}
