@@ -2,13 +2,12 @@
 //! giving the expected message fragment and key. Every one must exit with code 2, name the file,
 //! the line and column, the key and a valid example, and write nothing.
 
-mod common;
-use common::{radforce, scratch};
+use crate::common::{radforce, scratch};
 use predicates::prelude::*;
 use std::path::PathBuf;
 
 fn catalogue() -> Vec<(PathBuf, String, String)> {
-    let dir = common::path("tests/bad-inputs");
+    let dir = crate::common::path("tests/bad-inputs");
     let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
         .unwrap()
         .map(|e| e.unwrap().path())
@@ -174,7 +173,7 @@ fn files_that_are_not_scenarios() {
 // the clipping is corrected, the edge diffraction is not modelled).
 #[test]
 fn a_beam_larger_than_the_mirror_warns() {
-    let text = std::fs::read_to_string(common::path("data/torsion-vacuum-20w.toml")).unwrap();
+    let text = std::fs::read_to_string(crate::common::path("data/torsion-vacuum-20w.toml")).unwrap();
     let text = text.replace(
         "[inputs.mirror_radius]\nvalue = \"6 mm\"",
         "[inputs.mirror_radius]\nvalue = \"2 mm\"",

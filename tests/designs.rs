@@ -1,8 +1,7 @@
 //! Designs and plans: the weighing chains, noise floors, `compare`, `plan`, sweeps and the
 //! Markdown report.
 
-mod common;
-use common::{measurand, num, radforce, run_json, scratch};
+use crate::common::{measurand, num, radforce, run_json, scratch};
 use predicates::prelude::*;
 use radforce::scenario::load_str;
 
@@ -289,7 +288,7 @@ fn a_sweep_point_equals_a_plain_run() {
     let p = &points[6];
     let value = p["value"].as_f64().unwrap();
     assert!((value - 4.0e-3).abs() < 1e-12);
-    let text = std::fs::read_to_string(common::path("data/sweep-beam-radius.toml")).unwrap();
+    let text = std::fs::read_to_string(crate::common::path("data/sweep-beam-radius.toml")).unwrap();
     let start = text.find("[sweep]").unwrap();
     let end = text[start..].find("\n\n").unwrap() + start;
     let plain = text[..start].to_string() + &text[end..];
@@ -371,7 +370,7 @@ fn markdown_reports() {
 #[test]
 fn bad_variants_and_sweeps_are_refused() {
     let base =
-        std::fs::read_to_string(common::path("data/compare-1kw-torsion-vs-balance.toml")).unwrap();
+        std::fs::read_to_string(crate::common::path("data/compare-1kw-torsion-vs-balance.toml")).unwrap();
     let dir = scratch("bad-variants");
     let f = dir.join("v.toml");
     std::fs::write(
@@ -397,7 +396,7 @@ fn bad_variants_and_sweeps_are_refused() {
         .assert()
         .code(2)
         .stderr(predicate::str::contains("unknown key `seed`"));
-    let sweep = std::fs::read_to_string(common::path("data/sweep-beam-radius.toml")).unwrap();
+    let sweep = std::fs::read_to_string(crate::common::path("data/sweep-beam-radius.toml")).unwrap();
     std::fs::write(&f, sweep.replace("from = \"1.0 mm\"", "from = \"-1.0 mm\"")).unwrap();
     radforce()
         .args(["run", f.to_str().unwrap()])

@@ -1,8 +1,7 @@
 //! Same scenario and seed give byte-identical JSON on any thread count and between runs
 //! (the reproducibility contract of DESIGN.md).
 
-mod common;
-use common::radforce;
+use crate::common::radforce;
 
 fn json_with_threads(file: &str, threads: &str) -> Vec<u8> {
     let out = radforce()

@@ -2,8 +2,7 @@
 //! validation (JCGM 101:2008 clause 8), the adaptive procedure (JCGM 101 7.9.4), correlated
 //! inputs (JCGM 101 6.4.8) and several measurands (JCGM 102:2011).
 
-mod common;
-use common::{interval, measurand, num, radforce, run_json, scratch};
+use crate::common::{interval, measurand, num, radforce, run_json, scratch};
 use predicates::prelude::*;
 use radforce::engine::adaptive::{sd_of_average, simulate_adaptive};
 use radforce::scenario::load_str;

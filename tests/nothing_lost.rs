@@ -1,8 +1,7 @@
 //! Nothing lost: outputs are written through a temporary file and a rename, replaced only with
 //! --force, and a run killed midway leaves the previous output untouched.
 
-mod common;
-use common::scratch;
+use crate::common::scratch;
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 

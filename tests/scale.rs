@@ -2,8 +2,7 @@
 //! budget gives the results of the same run held in memory, and shards merged give the report
 //! of the single run byte for byte.
 
-mod common;
-use common::{radforce, scratch};
+use crate::common::{radforce, scratch};
 use predicates::prelude::*;
 use serde_json::Value;
 

@@ -2,8 +2,7 @@
 //! order) and Jansen (1999, total), checked against analytic indices, the LPU budget, and across
 //! thread counts; quasi-random base samples against pseudo-random ones.
 
-mod common;
-use common::{measurand, radforce, run_json, scratch};
+use crate::common::{measurand, radforce, run_json, scratch};
 use radforce::analysis::sensitivity::indices;
 use radforce::engine::sensitivity::{BaseSampler, design_runs};
 use radforce::scenario::{load_file, load_str};
@@ -78,7 +77,7 @@ fn ishigami_indices_at_the_default_base_size() {
 // somewhat liberal, so one more is allowed).
 #[test]
 fn bootstrap_intervals_cover_the_analytic_indices() {
-    let study = load_file(&common::path("data/validation/ishigami.toml")).unwrap();
+    let study = load_file(&crate::common::path("data/validation/ishigami.toml")).unwrap();
     let mut covered = 0;
     let mut total = 0;
     for seed in 0..12u64 {

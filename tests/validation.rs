@@ -2,8 +2,7 @@
 //! the command line. Tolerances follow ../shared/REFERENCES.md: half a unit of the last
 //! published digit plus about four Monte Carlo standard errors at M = 10^6.
 
-mod common;
-use common::{interval, measurand, num, run_json};
+use crate::common::{interval, measurand, num, run_json};
 
 fn check_symmetric_additive(file: &str, u_ref: f64, u_tol: f64, half_ref: f64, half_tol: f64) {
     let r = run_json(file, &[]);

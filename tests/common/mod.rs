@@ -1,5 +1,4 @@
 //! Helpers shared by the integration tests.
-#![allow(dead_code)]
 
 use assert_cmd::Command;
 use serde_json::Value;
@@ -54,10 +53,33 @@ pub fn interval(v: &Value, key: &str) -> (f64, f64) {
     (a[0].as_f64().unwrap(), a[1].as_f64().unwrap())
 }
 
-/// A fresh empty directory for one test.
-pub fn scratch(name: &str) -> PathBuf {
+/// A fresh empty directory for one test, removed with everything in it when the test ends
+/// (when the guard is dropped, also on a failed assertion).
+pub struct Scratch(PathBuf);
+
+impl std::ops::Deref for Scratch {
+    type Target = std::path::Path;
+    fn deref(&self) -> &std::path::Path {
+        &self.0
+    }
+}
+
+impl AsRef<std::path::Path> for Scratch {
+    fn as_ref(&self) -> &std::path::Path {
+        &self.0
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+/// A fresh empty directory for one test (see [`Scratch`]).
+pub fn scratch(name: &str) -> Scratch {
     let dir = std::env::temp_dir().join(format!("radforce-test-{}-{name}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap();
-    dir
+    Scratch(dir)
 }
