@@ -18,31 +18,31 @@ pub struct Dimension(pub [i8; BASES]);
 
 impl Dimension {
     /// A pure number (reflectance, quality factor, bounces, ratios).
-    pub const NONE: Dimension = Dimension([0; BASES]);
+    pub(crate) const NONE: Dimension = Dimension([0; BASES]);
     /// Length, metre.
-    pub const LENGTH: Dimension = Dimension([1, 0, 0, 0, 0, 0, 0, 0]);
+    pub(crate) const LENGTH: Dimension = Dimension([1, 0, 0, 0, 0, 0, 0, 0]);
     /// Mass, kilogram.
-    pub const MASS: Dimension = Dimension([0, 1, 0, 0, 0, 0, 0, 0]);
+    pub(crate) const MASS: Dimension = Dimension([0, 1, 0, 0, 0, 0, 0, 0]);
     /// Time, second.
-    pub const TIME: Dimension = Dimension([0, 0, 1, 0, 0, 0, 0, 0]);
+    pub(crate) const TIME: Dimension = Dimension([0, 0, 1, 0, 0, 0, 0, 0]);
     /// Thermodynamic temperature, kelvin.
-    pub const TEMPERATURE: Dimension = Dimension([0, 0, 0, 0, 1, 0, 0, 0]);
+    pub(crate) const TEMPERATURE: Dimension = Dimension([0, 0, 0, 0, 1, 0, 0, 0]);
     /// Plane angle, radian.
-    pub const ANGLE: Dimension = Dimension([0, 0, 0, 0, 0, 0, 0, 1]);
+    pub(crate) const ANGLE: Dimension = Dimension([0, 0, 0, 0, 0, 0, 0, 1]);
     /// Frequency, hertz = 1/s.
-    pub const FREQUENCY: Dimension = Dimension([0, 0, -1, 0, 0, 0, 0, 0]);
+    pub(crate) const FREQUENCY: Dimension = Dimension([0, 0, -1, 0, 0, 0, 0, 0]);
     /// Force, newton = kg m s^-2.
-    pub const FORCE: Dimension = Dimension([1, 1, -2, 0, 0, 0, 0, 0]);
+    pub(crate) const FORCE: Dimension = Dimension([1, 1, -2, 0, 0, 0, 0, 0]);
     /// Power, watt = kg m^2 s^-3.
-    pub const POWER: Dimension = Dimension([2, 1, -3, 0, 0, 0, 0, 0]);
+    pub(crate) const POWER: Dimension = Dimension([2, 1, -3, 0, 0, 0, 0, 0]);
     /// Torque, newton metre = kg m^2 s^-2.
-    pub const TORQUE: Dimension = Dimension([2, 1, -2, 0, 0, 0, 0, 0]);
+    pub(crate) const TORQUE: Dimension = Dimension([2, 1, -2, 0, 0, 0, 0, 0]);
     /// Torsion constant, newton metre per radian.
-    pub const TORSION_CONSTANT: Dimension = Dimension([2, 1, -2, 0, 0, 0, 0, -1]);
+    pub(crate) const TORSION_CONSTANT: Dimension = Dimension([2, 1, -2, 0, 0, 0, 0, -1]);
     /// Moment of inertia, kg m^2.
-    pub const MOMENT_OF_INERTIA: Dimension = Dimension([2, 1, 0, 0, 0, 0, 0, 0]);
+    pub(crate) const MOMENT_OF_INERTIA: Dimension = Dimension([2, 1, 0, 0, 0, 0, 0, 0]);
     /// Acceleration, m s^-2.
-    pub const ACCELERATION: Dimension = Dimension([1, 0, -2, 0, 0, 0, 0, 0]);
+    pub(crate) const ACCELERATION: Dimension = Dimension([1, 0, -2, 0, 0, 0, 0, 0]);
 
     fn mul(self, other: Dimension, power: i8) -> Dimension {
         let mut out = self.0;
@@ -54,7 +54,7 @@ impl Dimension {
 
     /// The coherent SI unit symbol of this dimension ("W", "N m/rad", "kg m^-3", "" for a pure
     /// number).
-    pub fn si_symbol(self) -> String {
+    pub(crate) fn si_symbol(self) -> String {
         for (dim, symbol) in NAMED_DIMENSIONS {
             if *dim == self {
                 return (*symbol).to_string();
@@ -80,7 +80,7 @@ impl Dimension {
     }
 
     /// A short name of the kind of quantity, for error messages ("length", "angle").
-    pub fn kind(self) -> String {
+    pub(crate) fn kind(self) -> String {
         for (dim, kind, _) in KINDS {
             if *dim == self {
                 return (*kind).to_string();
@@ -90,7 +90,7 @@ impl Dimension {
     }
 
     /// An example value of this dimension, for error messages.
-    pub fn example(self) -> &'static str {
+    pub(crate) fn example(self) -> &'static str {
         for (dim, _, example) in KINDS {
             if *dim == self {
                 return example;
@@ -235,18 +235,18 @@ const PREFIXES: &[(&str, f64)] = &[
 
 /// A parsed unit expression: the factor that converts a number in it to SI, and its dimension.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Unit {
+pub(crate) struct Unit {
     /// Multiply a number in this unit by `factor` to get the coherent SI value.
-    pub factor: f64,
+    pub(crate) factor: f64,
     /// The dimension of the unit.
-    pub dimension: Dimension,
+    pub(crate) dimension: Dimension,
     /// The unit as the user wrote it (trimmed).
-    pub text: String,
+    pub(crate) text: String,
 }
 
 /// Why a quantity or unit could not be read.
 #[derive(Clone, Debug, PartialEq)]
-pub enum UnitError {
+pub(crate) enum UnitError {
     /// The text does not start with a number.
     NoNumber,
     /// The number is NaN or infinite.
@@ -315,7 +315,7 @@ fn parse_factor(token: &str) -> Result<(f64, Dimension), UnitError> {
 /// Parse a unit expression such as "mW", "N m/rad", "m/s^2", "kg m^2", "W/m^2" or "" (a pure
 /// number). Factors are separated by spaces, `*` or `·`; everything after a `/` is in the
 /// denominator.
-pub fn parse_unit(text: &str) -> Result<Unit, UnitError> {
+pub(crate) fn parse_unit(text: &str) -> Result<Unit, UnitError> {
     let trimmed = text.trim();
     let mut factor = 1.0;
     let mut dimension = Dimension::NONE;
@@ -352,11 +352,11 @@ pub fn parse_unit(text: &str) -> Result<Unit, UnitError> {
 
 /// A number read from text, converted to SI, with the unit it was written in.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Quantity {
+pub(crate) struct Quantity {
     /// The value in coherent SI units.
-    pub si: f64,
+    pub(crate) si: f64,
     /// The unit written after the number; `None` for a bare number.
-    pub unit: Option<Unit>,
+    pub(crate) unit: Option<Unit>,
 }
 
 /// Split "2.5 mm" into the number and the rest; accepts signs, decimals, exponents and `_`
@@ -403,7 +403,7 @@ fn split_number(text: &str) -> Option<(f64, &str)> {
 ///
 /// The number is multiplied by the unit's factor: the result is the SI value
 /// ("2.5 mm" -> 0.0025, "45 deg" -> pi/4).
-pub fn parse_quantity(text: &str) -> Result<Quantity, UnitError> {
+pub(crate) fn parse_quantity(text: &str) -> Result<Quantity, UnitError> {
     let trimmed = text.trim();
     let lower = trimmed.to_ascii_lowercase();
     if lower.contains("nan") || lower.starts_with("inf") || lower.starts_with("+inf") {
@@ -433,16 +433,16 @@ pub fn parse_quantity(text: &str) -> Result<Quantity, UnitError> {
 
 /// A unit to show numbers in: its symbol and the factor from SI (`shown = si / factor`).
 #[derive(Clone, Debug, PartialEq)]
-pub struct DisplayUnit {
+pub(crate) struct DisplayUnit {
     /// The symbol printed beside the number ("mW", "mg", "N m/rad").
-    pub symbol: String,
+    pub(crate) symbol: String,
     /// SI value divided by this factor gives the shown number.
-    pub factor: f64,
+    pub(crate) factor: f64,
 }
 
 impl DisplayUnit {
     /// The coherent SI unit of a dimension, unscaled.
-    pub fn si(dimension: Dimension) -> DisplayUnit {
+    pub(crate) fn si(dimension: Dimension) -> DisplayUnit {
         DisplayUnit {
             symbol: dimension.si_symbol(),
             factor: 1.0,
@@ -473,7 +473,7 @@ fn prefix_base(symbol: &str) -> Option<(&'static str, f64)> {
 /// Pick an SI prefix (steps of 10^3, from pico to giga) so that `magnitude` (in SI) shows as a
 /// number from 1 to 1000 in the unit of `dimension`. Units that take no prefix are returned
 /// unscaled. This is common practice for readable tables.
-pub fn readable_unit(dimension: Dimension, magnitude: f64) -> DisplayUnit {
+pub(crate) fn readable_unit(dimension: Dimension, magnitude: f64) -> DisplayUnit {
     let si = dimension.si_symbol();
     let Some((base, base_factor)) = prefix_base(&si) else {
         return DisplayUnit::si(dimension);

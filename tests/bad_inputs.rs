@@ -173,7 +173,8 @@ fn files_that_are_not_scenarios() {
 // the clipping is corrected, the edge diffraction is not modelled).
 #[test]
 fn a_beam_larger_than_the_mirror_warns() {
-    let text = std::fs::read_to_string(crate::common::path("data/torsion-vacuum-20w.toml")).unwrap();
+    let text =
+        std::fs::read_to_string(crate::common::path("data/torsion-vacuum-20w.toml")).unwrap();
     let text = text.replace(
         "[inputs.mirror_radius]\nvalue = \"6 mm\"",
         "[inputs.mirror_radius]\nvalue = \"2 mm\"",

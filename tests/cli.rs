@@ -122,7 +122,8 @@ fn bad_files_exit_2_naming_the_key_and_write_nothing() {
 // clamped; a missing required chain input is named (common practice).
 #[test]
 fn a_torsion_input_outside_its_physical_range_is_refused() {
-    let text = std::fs::read_to_string(crate::common::path("data/torsion-vacuum-20w.toml")).unwrap();
+    let text =
+        std::fs::read_to_string(crate::common::path("data/torsion-vacuum-20w.toml")).unwrap();
     let bad = text.replace("min = 0.9990\nmax = 0.9995", "min = 0.9990\nmax = 1.0005");
     assert_refused(&bad, "inputs.reflectance", "fraction in [0, 1]");
     let bad = text.replace("mean = \"10 deg\"", "mean = \"90 deg\"");

@@ -369,8 +369,10 @@ fn markdown_reports() {
 // Misspelled variant inputs and impossible sweeps are refused with exit 2 (common practice).
 #[test]
 fn bad_variants_and_sweeps_are_refused() {
-    let base =
-        std::fs::read_to_string(crate::common::path("data/compare-1kw-torsion-vs-balance.toml")).unwrap();
+    let base = std::fs::read_to_string(crate::common::path(
+        "data/compare-1kw-torsion-vs-balance.toml",
+    ))
+    .unwrap();
     let dir = scratch("bad-variants");
     let f = dir.join("v.toml");
     std::fs::write(
@@ -396,7 +398,8 @@ fn bad_variants_and_sweeps_are_refused() {
         .assert()
         .code(2)
         .stderr(predicate::str::contains("unknown key `seed`"));
-    let sweep = std::fs::read_to_string(crate::common::path("data/sweep-beam-radius.toml")).unwrap();
+    let sweep =
+        std::fs::read_to_string(crate::common::path("data/sweep-beam-radius.toml")).unwrap();
     std::fs::write(&f, sweep.replace("from = \"1.0 mm\"", "from = \"-1.0 mm\"")).unwrap();
     radforce()
         .args(["run", f.to_str().unwrap()])

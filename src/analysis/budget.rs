@@ -6,27 +6,27 @@ use crate::scenario::Study;
 
 /// One line of a budget (SI).
 #[derive(Clone, Debug, PartialEq)]
-pub struct BudgetRow {
+pub(crate) struct BudgetRow {
     /// Input index.
-    pub input: usize,
+    pub(crate) input: usize,
     /// The input's estimate.
-    pub estimate: f64,
+    pub(crate) estimate: f64,
     /// Its standard uncertainty u(x_i) as the law of propagation uses it.
-    pub standard_uncertainty: f64,
+    pub(crate) standard_uncertainty: f64,
     /// Sensitivity coefficient c_i.
-    pub sensitivity: f64,
+    pub(crate) sensitivity: f64,
     /// Contribution |c_i| u(x_i), in the measurand's unit.
-    pub contribution: f64,
+    pub(crate) contribution: f64,
     /// Share (c_i u(x_i))^2 / u_c^2 of the first-order variance (cross terms of correlated
     /// inputs belong to no single input, so shares then need not sum to 1).
-    pub share: f64,
+    pub(crate) share: f64,
     /// Degrees of freedom of u(x_i), when finite.
-    pub dof: Option<f64>,
+    pub(crate) dof: Option<f64>,
 }
 
 /// The budget of one measurand: every input with an uncertainty, largest contribution first
 /// (ties in input order).
-pub fn budget(study: &Study, lpu: &MeasurandLpu) -> Vec<BudgetRow> {
+pub(crate) fn budget(study: &Study, lpu: &MeasurandLpu) -> Vec<BudgetRow> {
     let uc2 = lpu.standard_uncertainty.powi(2);
     let mut rows: Vec<BudgetRow> = study
         .inputs

@@ -23,35 +23,35 @@ use crate::scenario::Study;
 
 /// The law of propagation for one measurand (SI).
 #[derive(Clone, Debug, PartialEq)]
-pub struct MeasurandLpu {
+pub(crate) struct MeasurandLpu {
     /// y = f(x) at the input estimates.
-    pub estimate: f64,
+    pub(crate) estimate: f64,
     /// c_i per input (0 for constants), SI measurand unit per SI input unit.
-    pub sensitivities: Vec<f64>,
+    pub(crate) sensitivities: Vec<f64>,
     /// First-order combined standard uncertainty u_c, with correlations.
-    pub standard_uncertainty: f64,
+    pub(crate) standard_uncertainty: f64,
     /// With the higher-order terms of JCGM 100 5.1.2; `None` when inputs are correlated (the
     /// terms are derived for independent inputs) or the sum is negative.
-    pub higher_order_standard_uncertainty: Option<f64>,
+    pub(crate) higher_order_standard_uncertainty: Option<f64>,
     /// Welch-Satterthwaite effective degrees of freedom (infinite when no input carries any).
-    pub effective_dof: f64,
+    pub(crate) effective_dof: f64,
     /// k_p from the t distribution with the truncated effective degrees of freedom.
-    pub coverage_factor: f64,
+    pub(crate) coverage_factor: f64,
     /// y +- k_p u_c.
-    pub interval: (f64, f64),
+    pub(crate) interval: (f64, f64),
 }
 
 /// The law of propagation for every measurand.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Lpu {
+pub(crate) struct Lpu {
     /// Per measurand, `None` where the model or its derivatives are not finite at the estimates.
-    pub measurands: Vec<Option<MeasurandLpu>>,
+    pub(crate) measurands: Vec<Option<MeasurandLpu>>,
     /// Covariance matrix of the measurands, u(y_a, y_b) = sum_i sum_j c_ai c_bj r_ij u_i u_j.
-    pub covariance: Vec<Vec<f64>>,
+    pub(crate) covariance: Vec<Vec<f64>>,
 }
 
 /// Apply the law of propagation to a study.
-pub fn propagate(study: &Study) -> Lpu {
+pub(crate) fn propagate(study: &Study) -> Lpu {
     let n = study.inputs.len();
     let nm = study.measurands.len();
     let x: Vec<f64> = study.inputs.iter().map(|q| q.estimate()).collect();

@@ -2,205 +2,204 @@
 //! beside it with its validation and budget, correlations, gathered into [`Findings`]. Reports
 //! only format these.
 
-pub mod budget;
-pub mod lpu;
-pub mod planning;
+pub(crate) mod budget;
+pub(crate) mod lpu;
+pub(crate) mod planning;
 pub mod sensitivity;
-pub mod validation;
+pub(crate) mod validation;
 
 use crate::engine::adaptive::AdaptiveRun;
 use crate::engine::{self, Samples};
-pub use crate::engine::{MonteCarlo, Shape};
+pub(crate) use crate::engine::{MonteCarlo, Shape};
 use crate::scenario::{InputQuantity, Study};
-pub use crate::stats::Summary;
+pub(crate) use crate::stats::Summary;
 use crate::stats::moments::CoMoments;
 use crate::stats::numerical_tolerance;
 use crate::units::{Dimension, DisplayUnit};
 use budget::BudgetRow;
 use lpu::MeasurandLpu;
-use rayon::prelude::*;
 use validation::{Validation, validate};
 
 /// The LPU validated against the Monte Carlo result (JCGM 101 clause 8), first order and with
 /// the higher-order terms.
 #[derive(Clone, Debug)]
-pub struct ValidationFinding {
+pub(crate) struct ValidationFinding {
     /// First-order LPU.
-    pub first_order: Validation,
+    pub(crate) first_order: Validation,
     /// LPU with the higher-order terms, when they exist.
-    pub higher_order: Option<Validation>,
+    pub(crate) higher_order: Option<Validation>,
 }
 
 /// What the report says about one measurand.
 #[derive(Clone, Debug)]
-pub struct MeasurandFinding {
+pub(crate) struct MeasurandFinding {
     /// Name.
-    pub name: String,
+    pub(crate) name: String,
     /// What it is.
-    pub description: String,
+    pub(crate) description: String,
     /// The unit it is reported in (declared in the scenario, or SI).
-    pub unit: DisplayUnit,
+    pub(crate) unit: DisplayUnit,
     /// Whether the unit was declared by the scenario (else the report may pick a prefix).
-    pub unit_declared: bool,
+    pub(crate) unit_declared: bool,
     /// Its dimension, when known.
-    pub dimension: Option<Dimension>,
+    pub(crate) dimension: Option<Dimension>,
     /// The Monte Carlo result in SI.
-    pub monte_carlo: Summary,
+    pub(crate) monte_carlo: Summary,
     /// The law of propagation, when defined at the estimates.
-    pub lpu: Option<MeasurandLpu>,
+    pub(crate) lpu: Option<MeasurandLpu>,
     /// The validation of the LPU.
-    pub validation: Option<ValidationFinding>,
+    pub(crate) validation: Option<ValidationFinding>,
     /// The uncertainty budget.
-    pub budget: Vec<BudgetRow>,
+    pub(crate) budget: Vec<BudgetRow>,
     /// The shape of its distribution, for figures (when the values were in memory).
-    pub shape: Option<Shape>,
+    pub(crate) shape: Option<Shape>,
 }
 
 /// What the report says about one input quantity.
 #[derive(Clone, Debug)]
-pub struct InputFinding {
+pub(crate) struct InputFinding {
     /// Name.
-    pub name: String,
+    pub(crate) name: String,
     /// Distribution family or "constant".
-    pub distribution: String,
+    pub(crate) distribution: String,
     /// Estimate (expectation), SI.
-    pub estimate: f64,
+    pub(crate) estimate: f64,
     /// Standard deviation of its distribution, SI; `None` when infinite.
-    pub standard_uncertainty: Option<f64>,
+    pub(crate) standard_uncertainty: Option<f64>,
     /// Degrees of freedom, when finite and known.
-    pub dof: Option<f64>,
+    pub(crate) dof: Option<f64>,
     /// SI unit symbol.
-    pub si_unit: String,
+    pub(crate) si_unit: String,
     /// Its dimension, when known.
-    pub dimension: Option<Dimension>,
+    pub(crate) dimension: Option<Dimension>,
     /// The unit the scenario wrote it in.
-    pub shown_unit: DisplayUnit,
+    pub(crate) shown_unit: DisplayUnit,
     /// Its sampled histogram against its stated density (when its column was kept).
-    pub shape: Option<Shape>,
+    pub(crate) shape: Option<Shape>,
 }
 
 /// A correlation coefficient asked for between two inputs, and what the trials achieved.
 #[derive(Clone, Debug)]
-pub struct InputCorrelationFinding {
+pub(crate) struct InputCorrelationFinding {
     /// First input's name.
-    pub a: String,
+    pub(crate) a: String,
     /// Second input's name.
-    pub b: String,
+    pub(crate) b: String,
     /// The coefficient stated (of the normal scores for non-normal inputs).
-    pub coefficient: f64,
+    pub(crate) coefficient: f64,
     /// The Pearson correlation of the sampled values.
-    pub achieved: Option<f64>,
+    pub(crate) achieved: Option<f64>,
 }
 
 /// Correlation matrices of several measurands (JCGM 102:2011).
 #[derive(Clone, Debug)]
-pub struct MeasurandCorrelation {
+pub(crate) struct MeasurandCorrelation {
     /// Measurand names, the order of rows and columns.
-    pub names: Vec<String>,
+    pub(crate) names: Vec<String>,
     /// From the trials.
-    pub monte_carlo: Vec<Vec<f64>>,
+    pub(crate) monte_carlo: Vec<Vec<f64>>,
     /// From the law of propagation (`None` where a measurand has no LPU or u_c = 0).
-    pub lpu: Vec<Vec<Option<f64>>>,
+    pub(crate) lpu: Vec<Vec<Option<f64>>>,
 }
 
 /// How an adaptive run went.
 #[derive(Clone, Debug)]
-pub struct AdaptiveFinding {
+pub(crate) struct AdaptiveFinding {
     /// Significant digits asked for.
-    pub digits: u32,
+    pub(crate) digits: u32,
     /// Trials per batch.
-    pub batch_trials: u64,
+    pub(crate) batch_trials: u64,
     /// Batches used.
-    pub batches: usize,
+    pub(crate) batches: usize,
     /// Whether the stopping rule was met.
-    pub converged: bool,
+    pub(crate) converged: bool,
 }
 
 /// One factor's line in a sensitivity ranking.
 #[derive(Clone, Debug)]
-pub struct SensitivityRow {
+pub(crate) struct SensitivityRow {
     /// The input's name, or the names of a correlated group joined by "+".
-    pub name: String,
+    pub(crate) name: String,
     /// The indices and their intervals.
-    pub indices: sensitivity::FactorIndices,
+    pub(crate) indices: sensitivity::FactorIndices,
     /// Spearman rank correlation of the input with the measurand in the ordinary run (single
     /// inputs only).
-    pub spearman: Option<f64>,
+    pub(crate) spearman: Option<f64>,
     /// The input's share of the first-order LPU variance (summed over a group's members).
-    pub lpu_share: Option<f64>,
+    pub(crate) lpu_share: Option<f64>,
     /// Whether ST - S1 exceeds [`sensitivity::INTERACTION_GAP`].
-    pub interaction: bool,
+    pub(crate) interaction: bool,
 }
 
 /// How a sensitivity analysis was made.
 #[derive(Clone, Debug)]
-pub struct SensitivityMethod {
+pub(crate) struct SensitivityMethod {
     /// Base rows N.
-    pub base_rows: usize,
+    pub(crate) base_rows: usize,
     /// Number of factors k.
-    pub factors: usize,
+    pub(crate) factors: usize,
     /// "random" or "sobol".
-    pub sampler: &'static str,
+    pub(crate) sampler: &'static str,
     /// Bootstrap replicates.
-    pub replicates: usize,
+    pub(crate) replicates: usize,
     /// Confidence level of the intervals.
-    pub confidence: f64,
+    pub(crate) confidence: f64,
     /// Whether some factors are correlated groups.
-    pub grouped: bool,
+    pub(crate) grouped: bool,
 }
 
 /// The sensitivity ranking of every measurand.
 #[derive(Clone, Debug)]
-pub struct SensitivityFinding {
+pub(crate) struct SensitivityFinding {
     /// How it was made.
-    pub method: SensitivityMethod,
+    pub(crate) method: SensitivityMethod,
     /// Per measurand (report order), rows ranked by total index.
-    pub measurands: Vec<Vec<SensitivityRow>>,
+    pub(crate) measurands: Vec<Vec<SensitivityRow>>,
 }
 
 /// Everything a report shows.
 #[derive(Clone, Debug)]
 pub struct Findings {
     /// Scenario file.
-    pub file: String,
+    pub(crate) file: String,
     /// Title.
-    pub title: String,
+    pub(crate) title: String,
     /// Trials used.
-    pub trials: u64,
+    pub(crate) trials: u64,
     /// Seed.
-    pub seed: u64,
+    pub(crate) seed: u64,
     /// Coverage probability.
-    pub coverage: f64,
+    pub(crate) coverage: f64,
     /// ndig of the numerical tolerance.
-    pub digits: u32,
+    pub(crate) digits: u32,
     /// Generator description.
-    pub generator: String,
+    pub(crate) generator: String,
     /// Crate versions that define the streams.
-    pub stream_crates: Vec<(&'static str, &'static str)>,
+    pub(crate) stream_crates: Vec<(&'static str, &'static str)>,
     /// The chain's name, if any.
-    pub chain: Option<&'static str>,
+    pub(crate) chain: Option<&'static str>,
     /// Whether the laser caution applies.
-    pub laser: bool,
+    pub(crate) laser: bool,
     /// Measurands.
-    pub measurands: Vec<MeasurandFinding>,
+    pub(crate) measurands: Vec<MeasurandFinding>,
     /// Inputs.
-    pub inputs: Vec<InputFinding>,
+    pub(crate) inputs: Vec<InputFinding>,
     /// Correlated input pairs.
-    pub input_correlations: Vec<InputCorrelationFinding>,
+    pub(crate) input_correlations: Vec<InputCorrelationFinding>,
     /// Correlation of the measurands, when there are several.
-    pub correlation: Option<MeasurandCorrelation>,
+    pub(crate) correlation: Option<MeasurandCorrelation>,
     /// The adaptive procedure, when used.
-    pub adaptive: Option<AdaptiveFinding>,
+    pub(crate) adaptive: Option<AdaptiveFinding>,
     /// The sensitivity ranking, from `radforce rank`.
-    pub sensitivity: Option<SensitivityFinding>,
+    pub(crate) sensitivity: Option<SensitivityFinding>,
     /// The noise floor from `[noise]`.
-    pub noise: Option<crate::scenario::NoiseFloor>,
+    pub(crate) noise: Option<crate::scenario::NoiseFloor>,
     /// The sweep from `[sweep]`.
-    pub sweep: Option<planning::SweepFinding>,
+    pub(crate) sweep: Option<planning::SweepFinding>,
     /// Names of the variants in the scenario file.
-    pub variants: Vec<String>,
+    pub(crate) variants: Vec<String>,
     /// Warnings from loading and running.
-    pub warnings: Vec<String>,
+    pub(crate) warnings: Vec<String>,
 }
 
 fn input_finding(q: &InputQuantity) -> InputFinding {
@@ -220,7 +219,7 @@ fn input_finding(q: &InputQuantity) -> InputFinding {
 
 /// Pearson correlation matrix of `n` measurands from their merged joint moments (in the order of
 /// `engine::measurand_pair_order`).
-pub fn correlation_from_pairs(n: usize, pairs: &[CoMoments]) -> Vec<Vec<f64>> {
+pub(crate) fn correlation_from_pairs(n: usize, pairs: &[CoMoments]) -> Vec<Vec<f64>> {
     let mut out = vec![vec![1.0; n]; n];
     for ((a, b), c) in engine::measurand_pair_order(n).into_iter().zip(pairs) {
         let r = c.correlation().unwrap_or(0.0);
@@ -232,7 +231,9 @@ pub fn correlation_from_pairs(n: usize, pairs: &[CoMoments]) -> Vec<Vec<f64>> {
 
 /// Pearson correlation matrix of columns, from per-chunk joint moments merged in chunk order
 /// (the same numbers as [`correlation_from_pairs`] on the engine's pairs).
-pub fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
+#[cfg(test)]
+pub(crate) fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
+    use rayon::prelude::*;
     let n = columns.len();
     let mut out = vec![vec![1.0; n]; n];
     for a in 0..n {
@@ -258,7 +259,11 @@ pub fn findings(study: &Study, samples: &Samples, adaptive: Option<&AdaptiveRun>
 }
 
 /// Summarise a run from its Monte Carlo result.
-pub fn findings_from(study: &Study, mc: &MonteCarlo, adaptive: Option<&AdaptiveRun>) -> Findings {
+pub(crate) fn findings_from(
+    study: &Study,
+    mc: &MonteCarlo,
+    adaptive: Option<&AdaptiveRun>,
+) -> Findings {
     let mcr = mc;
     let lpu = lpu::propagate(study);
     let mut warnings = study.warnings.clone();
@@ -387,7 +392,7 @@ pub fn findings_from(study: &Study, mc: &MonteCarlo, adaptive: Option<&AdaptiveR
 
 /// Build the sensitivity ranking from a design's runs and an ordinary run that kept its input
 /// columns (for Spearman's correlation).
-pub fn sensitivity_finding(
+pub(crate) fn sensitivity_finding(
     study: &Study,
     findings: &Findings,
     runs: &crate::engine::sensitivity::DesignRuns,

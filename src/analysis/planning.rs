@@ -14,18 +14,18 @@ use super::{Findings, MeasurandFinding, Summary};
 
 /// What the user wants to reach.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct TargetSpec {
+pub(crate) struct TargetSpec {
     /// The target value: a fraction of the estimate when `relative`, else in SI.
-    pub value: f64,
+    pub(crate) value: f64,
     /// Relative to the estimate.
-    pub relative: bool,
+    pub(crate) relative: bool,
     /// An expanded uncertainty (at the scenario's coverage probability) rather than a standard one.
-    pub expanded: bool,
+    pub(crate) expanded: bool,
 }
 
 impl TargetSpec {
     /// The target as a standard uncertainty in SI, given the estimate and the coverage factor.
-    pub fn standard_si(&self, estimate: f64, k: f64) -> f64 {
+    pub(crate) fn standard_si(&self, estimate: f64, k: f64) -> f64 {
         let v = if self.relative {
             self.value * estimate.abs()
         } else {
@@ -35,7 +35,7 @@ impl TargetSpec {
     }
 
     /// A Monte Carlo result in the terms of the target.
-    pub fn express(&self, s: &Summary) -> f64 {
+    pub(crate) fn express(&self, s: &Summary) -> f64 {
         let v = if self.expanded {
             s.expanded_uncertainty
         } else {
@@ -49,7 +49,7 @@ impl TargetSpec {
     }
 
     /// A standard uncertainty (SI) in the terms of the target.
-    pub fn express_standard(&self, u: f64, estimate: f64, k: f64) -> f64 {
+    pub(crate) fn express_standard(&self, u: f64, estimate: f64, k: f64) -> f64 {
         let v = if self.expanded { u * k } else { u };
         if self.relative { v / estimate.abs() } else { v }
     }
@@ -57,48 +57,53 @@ impl TargetSpec {
 
 /// What one input alone could do.
 #[derive(Clone, Debug, PartialEq)]
-pub struct AloneRow {
+pub(crate) struct AloneRow {
     /// Input index.
-    pub input: usize,
+    pub(crate) input: usize,
     /// Its standard uncertainty now (as the LPU uses it), SI.
-    pub current: f64,
+    pub(crate) current: f64,
     /// The standard uncertainty it would need, SI, or `None` when it cannot reach the target alone.
-    pub needed: Option<f64>,
+    pub(crate) needed: Option<f64>,
     /// The uncertainty the other inputs leave when this one is made exact, in target terms.
-    pub floor: f64,
+    pub(crate) floor: f64,
 }
 
 /// One improved input of a plan.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Change {
+pub(crate) struct Change {
     /// Input index.
-    pub input: usize,
+    pub(crate) input: usize,
     /// Standard uncertainty now, SI.
-    pub from: f64,
+    pub(crate) from: f64,
     /// Standard uncertainty planned, SI.
-    pub to: f64,
+    pub(crate) to: f64,
     /// from / to.
-    pub factor: f64,
+    pub(crate) factor: f64,
 }
 
 /// A plan before its check.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Proposal {
+pub(crate) struct Proposal {
     /// Per input.
-    pub alone: Vec<AloneRow>,
+    pub(crate) alone: Vec<AloneRow>,
     /// The changes (empty when the target is met already or out of reach).
-    pub changes: Vec<Change>,
+    pub(crate) changes: Vec<Change>,
     /// Whether the target is met without changes.
-    pub already_met: bool,
+    pub(crate) already_met: bool,
     /// Whether no set of the inputs can reach it (the cross terms alone exceed it).
-    pub unreachable: bool,
+    pub(crate) unreachable: bool,
     /// How the plan was chosen, in words.
-    pub explanation: String,
+    pub(crate) explanation: String,
 }
 
 /// Propose the changes for measurand `m` of a run, for a target standard uncertainty `u_t`
 /// (SI); `spec` and `k` express floors in the user's terms.
-pub fn propose(m: &MeasurandFinding, u_t: f64, spec: &TargetSpec, k: f64) -> Option<Proposal> {
+pub(crate) fn propose(
+    m: &MeasurandFinding,
+    u_t: f64,
+    spec: &TargetSpec,
+    k: f64,
+) -> Option<Proposal> {
     let lpu = m.lpu.as_ref()?;
     let uc2 = lpu.standard_uncertainty.powi(2);
     let y = m.monte_carlo.estimate;
@@ -198,57 +203,57 @@ pub fn propose(m: &MeasurandFinding, u_t: f64, spec: &TargetSpec, k: f64) -> Opt
 #[derive(Clone, Debug)]
 pub struct PlanFinding {
     /// Measurand index.
-    pub measurand: usize,
+    pub(crate) measurand: usize,
     /// The target.
-    pub spec: TargetSpec,
+    pub(crate) spec: TargetSpec,
     /// The proposal (after any tightening in the check).
-    pub proposal: Proposal,
+    pub(crate) proposal: Proposal,
     /// The value reached by the checking Monte Carlo run, in target terms.
-    pub achieved: f64,
+    pub(crate) achieved: f64,
     /// The current value, in target terms.
-    pub current: f64,
+    pub(crate) current: f64,
     /// Whether the checking run meets the target.
-    pub met: bool,
+    pub(crate) met: bool,
     /// Checking runs made (the factors are tightened when a run falls short).
-    pub checks: usize,
+    pub(crate) checks: usize,
     /// The report of the checking run.
-    pub verification: Box<Findings>,
+    pub(crate) verification: Box<Findings>,
 }
 
 /// One design of a comparison.
 #[derive(Clone, Debug)]
-pub struct ComparisonRow {
+pub(crate) struct ComparisonRow {
     /// The design's name (a file's title, or a variant's name).
-    pub name: String,
+    pub(crate) name: String,
     /// The measurand compared.
-    pub measurand: usize,
+    pub(crate) measurand: usize,
     /// The Monte Carlo result.
-    pub summary: Summary,
+    pub(crate) summary: Summary,
     /// U / |y|.
-    pub relative_expanded_uncertainty: f64,
+    pub(crate) relative_expanded_uncertainty: f64,
     /// The three largest contributors: (input name, share of the LPU variance).
-    pub top: Vec<(String, f64)>,
+    pub(crate) top: Vec<(String, f64)>,
     /// 1-based rank by relative expanded uncertainty.
-    pub rank: usize,
+    pub(crate) rank: usize,
     /// The design's full findings.
-    pub findings: Box<Findings>,
+    pub(crate) findings: Box<Findings>,
 }
 
 /// Designs side by side.
 #[derive(Clone, Debug)]
 pub struct Comparison {
     /// One row per design, in the order given.
-    pub rows: Vec<ComparisonRow>,
+    pub(crate) rows: Vec<ComparisonRow>,
     /// Trials of every design (the same for all: a paired comparison).
-    pub trials: u64,
+    pub(crate) trials: u64,
     /// Seed of every design.
-    pub seed: u64,
+    pub(crate) seed: u64,
     /// Coverage probability.
-    pub coverage: f64,
+    pub(crate) coverage: f64,
 }
 
 /// Rank rows by relative expanded uncertainty (ties keep their order).
-pub fn rank_rows(rows: &mut [ComparisonRow]) {
+pub(crate) fn rank_rows(rows: &mut [ComparisonRow]) {
     let mut order: Vec<usize> = (0..rows.len()).collect();
     order.sort_by(|a, b| {
         rows[*a]
@@ -261,7 +266,7 @@ pub fn rank_rows(rows: &mut [ComparisonRow]) {
 }
 
 /// The comparison row of a design.
-pub fn comparison_row(name: &str, findings: Findings, measurand: usize) -> ComparisonRow {
+pub(crate) fn comparison_row(name: &str, findings: Findings, measurand: usize) -> ComparisonRow {
     let m = &findings.measurands[measurand];
     let s = m.monte_carlo;
     let top = m
@@ -283,22 +288,22 @@ pub fn comparison_row(name: &str, findings: Findings, measurand: usize) -> Compa
 
 /// One point of a sweep.
 #[derive(Clone, Debug)]
-pub struct SweepPoint {
+pub(crate) struct SweepPoint {
     /// The swept input's estimate, SI.
-    pub value: f64,
+    pub(crate) value: f64,
     /// The measurand's Monte Carlo result there.
-    pub summary: Summary,
+    pub(crate) summary: Summary,
 }
 
 /// A sweep.
 #[derive(Clone, Debug)]
-pub struct SweepFinding {
+pub(crate) struct SweepFinding {
     /// The swept input.
-    pub input: usize,
+    pub(crate) input: usize,
     /// The measurand followed.
-    pub measurand: usize,
+    pub(crate) measurand: usize,
     /// The points in order.
-    pub points: Vec<SweepPoint>,
+    pub(crate) points: Vec<SweepPoint>,
 }
 
 #[cfg(test)]

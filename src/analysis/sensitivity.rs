@@ -19,13 +19,13 @@ use rayon::prelude::*;
 
 /// Gap between total and first-order index above which the report flags interaction (common
 /// practice: a few per cent of the variance).
-pub const INTERACTION_GAP: f64 = 0.05;
+pub(crate) const INTERACTION_GAP: f64 = 0.05;
 
 /// The indices of one factor for one measurand.
 #[derive(Clone, Debug, PartialEq)]
 pub struct FactorIndices {
     /// Input indices of the factor (one, or a correlated group).
-    pub members: Vec<usize>,
+    pub(crate) members: Vec<usize>,
     /// First-order index S_i.
     pub first_order: f64,
     /// Its bootstrap interval.
@@ -42,7 +42,12 @@ pub struct FactorIndices {
 /// standardises the output): this leaves the estimator's expectation unchanged, since
 /// E[f(A_B^(i)) - f(A)] = 0, and removes the large variance the raw form has when the mean of
 /// the output is large beside its spread (a 20 W estimate with u = 0.1 W).
-pub fn estimate(fa: &[f64], fb: &[f64], fab: &[Vec<f64>], rows: Option<&[u32]>) -> Vec<(f64, f64)> {
+pub(crate) fn estimate(
+    fa: &[f64],
+    fb: &[f64],
+    fab: &[Vec<f64>],
+    rows: Option<&[u32]>,
+) -> Vec<(f64, f64)> {
     let n = rows.map_or(fa.len(), <[u32]>::len);
     let at = |j: usize| rows.map_or(j, |r| r[j] as usize);
     let m = 2.0 * n as f64;
@@ -145,17 +150,18 @@ fn ranks(x: &[f64]) -> Vec<f64> {
 }
 
 /// Spearman's rank correlation: the Pearson correlation of the ranks (Spearman 1904).
-pub fn spearman(x: &[f64], y: &[f64]) -> Option<f64> {
+#[cfg(test)]
+pub(crate) fn spearman(x: &[f64], y: &[f64]) -> Option<f64> {
     spearman_ranked(&ranks(x), &ranks(y))
 }
 
 /// Spearman's correlation of columns already ranked.
-pub fn spearman_ranked(rx: &[f64], ry: &[f64]) -> Option<f64> {
+pub(crate) fn spearman_ranked(rx: &[f64], ry: &[f64]) -> Option<f64> {
     crate::stats::moments::CoMoments::of(rx, ry).correlation()
 }
 
 /// The ranks of several columns, in parallel.
-pub fn rank_columns(columns: &[&[f64]]) -> Vec<Vec<f64>> {
+pub(crate) fn rank_columns(columns: &[&[f64]]) -> Vec<Vec<f64>> {
     columns.par_iter().map(|c| ranks(c)).collect()
 }
 

@@ -4,19 +4,19 @@
 /// The comparison of an LPU coverage interval y +- U with the Monte Carlo probabilistically
 /// symmetric interval [y_low, y_high] (JCGM 101 8.2).
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Validation {
+pub(crate) struct Validation {
     /// The numerical tolerance delta.
-    pub delta: f64,
+    pub(crate) delta: f64,
     /// |y - U - y_low|.
-    pub d_low: f64,
+    pub(crate) d_low: f64,
     /// |y + U - y_high|.
-    pub d_high: f64,
+    pub(crate) d_high: f64,
     /// Whether both are at most delta.
-    pub validated: bool,
+    pub(crate) validated: bool,
 }
 
 /// Validate `y +- expanded` against the Monte Carlo interval `mc` with tolerance `delta`.
-pub fn validate(y: f64, expanded: f64, mc: (f64, f64), delta: f64) -> Validation {
+pub(crate) fn validate(y: f64, expanded: f64, mc: (f64, f64), delta: f64) -> Validation {
     let d_low = (y - expanded - mc.0).abs();
     let d_high = (y + expanded - mc.1).abs();
     Validation {

@@ -13,16 +13,16 @@
 
 use rand::Rng;
 
-pub mod special;
+pub(crate) mod special;
 
 /// A parameter that makes a distribution impossible, with the reason in words.
 #[derive(Clone, Debug, PartialEq, thiserror::Error)]
 #[error("{reason}")]
 pub struct ParameterError {
     /// The parameter name as written in a scenario (`sd`, `max`, `beta`...).
-    pub parameter: &'static str,
+    pub(crate) parameter: &'static str,
     /// What is wrong and what would be valid.
-    pub reason: String,
+    pub(crate) reason: String,
 }
 
 pub(crate) fn invalid(parameter: &'static str, reason: impl Into<String>) -> ParameterError {
@@ -60,19 +60,19 @@ pub struct FamilySpec {
     /// The name in `dist = "..."`.
     pub name: &'static str,
     /// Other names accepted for it (JCGM 101 Table 1 gives some families two).
-    pub aliases: &'static [&'static str],
+    pub(crate) aliases: &'static [&'static str],
     /// Its parameters, in the order `build` reads them.
     pub params: &'static [(&'static str, ParamKind)],
     /// A valid table line, for messages, the schema and the starter file.
     pub example: &'static str,
     /// Whether a Type B `dof` key may be given (not for families that carry their own).
-    pub type_b_dof: bool,
+    pub(crate) type_b_dof: bool,
     /// Build the distribution from its parameter values.
     pub build: fn(&ParamValues<'_>) -> Result<Distribution, ParameterError>,
 }
 
 /// What every distribution family provides.
-pub trait Family: Sized {
+pub(crate) trait Family: Sized {
     /// How scenarios name it (usually one spec; the t distribution has two, `t` and `readings`).
     const SPECS: &'static [FamilySpec];
     /// Its name as written in a scenario's `dist` key.
@@ -106,13 +106,13 @@ pub trait Family: Sized {
 
 /// A standard uniform draw in [0, 1) with 53 random bits.
 #[inline(always)]
-pub fn uniform01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
+pub(crate) fn uniform01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
 }
 
 /// A standard uniform draw in the open interval (0, 1), for inverse-distribution sampling.
 #[inline(always)]
-pub fn uniform_open01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
+pub(crate) fn uniform_open01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     ((rng.next_u64() >> 11) as f64 + 0.5) * (1.0 / (1u64 << 53) as f64)
 }
 
@@ -188,7 +188,7 @@ macro_rules! families {
             }
 
             /// Probability density.
-            pub fn pdf(&self, x: f64) -> f64 {
+            pub(crate) fn pdf(&self, x: f64) -> f64 {
                 match self { $(Distribution::$variant(d) => d.pdf(x),)* }
             }
 
@@ -199,13 +199,13 @@ macro_rules! families {
 
             /// The same distribution moved so that its expectation is `mean` (see
             /// [`Family::with_mean`]).
-            pub fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
+            pub(crate) fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
                 match self { $(Distribution::$variant(d) => d.with_mean(mean),)* }
             }
 
             /// The same distribution with its standard deviation divided by `factor` (> 0),
             /// same mean (see [`Family::narrowed`]).
-            pub fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
+            pub(crate) fn narrowed(&self, factor: f64) -> Result<Distribution, ParameterError> {
                 if !(factor > 0.0 && factor.is_finite()) {
                     return Err(invalid(
                         "factor",
@@ -245,17 +245,17 @@ families! {
     LogNormal(lognormal::LogNormal),
 }
 
-pub use student_t::{T_QUANTILE_NORMAL_ABOVE, t_quantile as student_t_quantile};
+pub(crate) use student_t::t_quantile as student_t_quantile;
 
 impl Distribution {
     /// Standard deviation, the standard uncertainty of JCGM 101 (square root of the variance).
-    pub fn standard_deviation(&self) -> f64 {
+    pub(crate) fn standard_deviation(&self) -> f64 {
         self.variance().sqrt()
     }
 }
 
 /// The family a scenario names by `name` or one of its aliases (case-insensitive).
-pub fn family_by_name(name: &str) -> Option<&'static FamilySpec> {
+pub(crate) fn family_by_name(name: &str) -> Option<&'static FamilySpec> {
     let lower = name.to_ascii_lowercase();
     families().find(|f| f.name == lower || f.aliases.contains(&lower.as_str()))
 }

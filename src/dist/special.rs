@@ -10,19 +10,19 @@ use statrs::function::erf::erfc_inv;
 use std::f64::consts::{FRAC_1_SQRT_2, SQRT_2};
 
 /// 1 / sqrt(2 pi).
-pub const FRAC_1_SQRT_2PI: f64 = 0.398_942_280_401_432_7;
+pub(crate) const FRAC_1_SQRT_2PI: f64 = 0.398_942_280_401_432_7;
 
 /// 2 / sqrt(pi).
 const FRAC_2_SQRT_PI: f64 = std::f64::consts::FRAC_2_SQRT_PI;
 
 /// Complementary error function (libm).
-pub fn erfc(x: f64) -> f64 {
+pub(crate) fn erfc(x: f64) -> f64 {
     libm::erfc(x)
 }
 
 /// Inverse complementary error function: statrs's value polished by one Newton step,
 /// y in (0, 2).
-pub fn inverse_erfc(y: f64) -> f64 {
+pub(crate) fn inverse_erfc(y: f64) -> f64 {
     let x = erfc_inv(y);
     if !x.is_finite() {
         return x;
@@ -36,27 +36,27 @@ pub fn inverse_erfc(y: f64) -> f64 {
 }
 
 /// Standard normal distribution function Phi(x).
-pub fn std_normal_cdf(x: f64) -> f64 {
+pub(crate) fn std_normal_cdf(x: f64) -> f64 {
     0.5 * erfc(-x * FRAC_1_SQRT_2)
 }
 
 /// Standard normal upper tail Q(x) = 1 - Phi(x), accurate far in the tail.
-pub fn std_normal_sf(x: f64) -> f64 {
+pub(crate) fn std_normal_sf(x: f64) -> f64 {
     0.5 * erfc(x * FRAC_1_SQRT_2)
 }
 
 /// Standard normal density phi(x).
-pub fn std_normal_pdf(x: f64) -> f64 {
+pub(crate) fn std_normal_pdf(x: f64) -> f64 {
     FRAC_1_SQRT_2PI * (-0.5 * x * x).exp()
 }
 
 /// Standard normal quantile Phi^-1(p), p in (0, 1).
-pub fn std_normal_quantile(p: f64) -> f64 {
+pub(crate) fn std_normal_quantile(p: f64) -> f64 {
     -SQRT_2 * inverse_erfc(2.0 * p)
 }
 
 /// Inverse of the upper tail: the x with Q(x) = q.
-pub fn std_normal_isf(q: f64) -> f64 {
+pub(crate) fn std_normal_isf(q: f64) -> f64 {
     SQRT_2 * inverse_erfc(2.0 * q)
 }
 

@@ -10,11 +10,11 @@ use statrs::distribution::{Continuous, ContinuousCDF};
 /// Above this many degrees of freedom statrs 0.19's `StudentsT::inverse_cdf` loses accuracy
 /// (measured: wrong by -6.8e-6 at 1e5) and never returns at infinity, so the normal quantile is
 /// used instead; its difference from t at 1e4 degrees of freedom is below 1e-4 relative.
-pub const T_QUANTILE_NORMAL_ABOVE: f64 = 1e4;
+pub(crate) const T_QUANTILE_NORMAL_ABOVE: f64 = 1e4;
 
 /// The quantile of Student's t with `dof` degrees of freedom at probability `p`; the normal
 /// quantile above [`T_QUANTILE_NORMAL_ABOVE`] and for infinite `dof`.
-pub fn t_quantile(p: f64, dof: f64) -> f64 {
+pub(crate) fn t_quantile(p: f64, dof: f64) -> f64 {
     if !dof.is_finite() || dof > T_QUANTILE_NORMAL_ABOVE {
         return std_normal_quantile(p);
     }
@@ -43,7 +43,7 @@ pub struct StandardT {
 
 impl StandardT {
     /// The sampler for `dof` > 0 degrees of freedom.
-    pub fn new(dof: f64) -> StandardT {
+    pub(crate) fn new(dof: f64) -> StandardT {
         let a = 0.5 * dof;
         let (shape, boost) = if a < 1.0 {
             (a + 1.0, 1.0 / a)
@@ -61,7 +61,7 @@ impl StandardT {
 
     /// One draw.
     #[inline(always)]
-    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+    pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let z: f64 = StandardNormal.sample(rng);
         let g = loop {
             let x: f64 = StandardNormal.sample(rng);
@@ -161,19 +161,14 @@ impl ScaledT {
     }
 
     /// Whether this t was built from a series of readings.
-    pub fn is_from_readings(&self) -> bool {
+    pub(crate) fn is_from_readings(&self) -> bool {
         self.readings.is_some()
     }
 
     /// The scale s / sqrt n: the GUM Type A standard uncertainty (JCGM 100 4.2.3), which the
     /// law of propagation uses with `dof` degrees of freedom.
-    pub fn scale(&self) -> f64 {
+    pub(crate) fn scale(&self) -> f64 {
         self.scale
-    }
-
-    /// Number of readings, when built from readings.
-    pub fn readings(&self) -> Option<usize> {
-        self.readings
     }
 }
 

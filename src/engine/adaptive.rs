@@ -19,7 +19,7 @@ use rayon::prelude::*;
 
 /// The six statistics of one batch for one measurand: estimate, u, and the ends of the
 /// symmetric and the shortest coverage intervals (SI).
-pub type BatchStatistics = [f64; 6];
+pub(crate) type BatchStatistics = [f64; 6];
 
 /// An adaptive run.
 #[derive(Clone, Debug)]
@@ -56,7 +56,7 @@ pub fn sd_of_average(values: &[f64]) -> f64 {
 
 /// Whether the stopping rule holds for these batches, with the tolerances used: for each
 /// measurand, delta from `u_all` (SI) written in the reporting unit (`factors`).
-pub fn stopping_rule_met(
+pub(crate) fn stopping_rule_met(
     batches: &[Vec<BatchStatistics>],
     u_all: &[f64],
     factors: &[f64],

@@ -1,7 +1,7 @@
 //! The memory budget for sample storage.
 
 /// Bytes of memory of this machine (MemTotal of /proc/meminfo), if known.
-pub fn machine_memory() -> Option<u64> {
+pub(crate) fn machine_memory() -> Option<u64> {
     let text = std::fs::read_to_string("/proc/meminfo").ok()?;
     let line = text.lines().find(|l| l.starts_with("MemTotal:"))?;
     let kib: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
@@ -9,19 +9,19 @@ pub fn machine_memory() -> Option<u64> {
 }
 
 /// The default budget: half of the machine's memory, or 4 GiB when it cannot be read.
-pub fn default_budget() -> u64 {
+pub(crate) fn default_budget() -> u64 {
     machine_memory().map_or(4 << 30, |m| m / 2)
 }
 
 /// Bytes of sample storage a run needs: 8 bytes per trial per stored column, plus the two
 /// tails the coverage intervals sort (at most 2 (1 - p) M values of one column at a time).
-pub fn sample_bytes(trials: u64, columns: usize, coverage: f64) -> u64 {
+pub(crate) fn sample_bytes(trials: u64, columns: usize, coverage: f64) -> u64 {
     let per_trial = 8.0 * columns as f64 + 16.0 * (1.0 - coverage) * 1.2;
     (trials as f64 * per_trial).ceil() as u64
 }
 
 /// Parse "8GiB", "500 MB", "1.5 GiB", "2000000000".
-pub fn parse_bytes(text: &str) -> Option<u64> {
+pub(crate) fn parse_bytes(text: &str) -> Option<u64> {
     let t = text.trim();
     let split = t
         .find(|c: char| !(c.is_ascii_digit() || c == '.'))
@@ -45,7 +45,7 @@ pub fn parse_bytes(text: &str) -> Option<u64> {
 }
 
 /// "1.50 GiB".
-pub fn format_bytes(bytes: u64) -> String {
+pub(crate) fn format_bytes(bytes: u64) -> String {
     let b = bytes as f64;
     if b >= (1u64 << 30) as f64 {
         format!("{:.2} GiB", b / (1u64 << 30) as f64)

@@ -7,17 +7,17 @@
 //! number computed from them depend on the seed and M only, never on the thread count.
 
 pub mod adaptive;
-pub mod columns;
-pub mod memory;
+pub(crate) mod columns;
+pub(crate) mod memory;
 pub mod progress;
-pub mod result;
+pub(crate) mod result;
 pub mod sampling;
 pub mod sensitivity;
 pub mod stream;
-pub mod streaming;
-pub mod tails;
+pub(crate) mod streaming;
+pub(crate) mod tails;
 
-pub use result::{MonteCarlo, Shape};
+pub(crate) use result::{MonteCarlo, Shape};
 
 use crate::error::RunError;
 use crate::scenario::Study;
@@ -26,12 +26,12 @@ use rayon::prelude::*;
 use std::sync::atomic::{AtomicU64, Ordering};
 
 /// Trials per chunk; part of the reproducibility contract (changing it changes the streams).
-pub const CHUNK_TRIALS: usize = 16_384;
+pub(crate) const CHUNK_TRIALS: usize = 16_384;
 /// Trials per block inside a chunk (inputs are drawn input by input for a whole block).
 pub const BLOCK_TRIALS: usize = 256;
 
 /// Name of the generator and stream layout, as printed in reports.
-pub fn generator_description() -> String {
+pub(crate) fn generator_description() -> String {
     format!(
         "Xoshiro256++ (rand_xoshiro {}); chunk k of {CHUNK_TRIALS} trials draws from seed_from_u64(seed) advanced by k*2^128 steps; samplers of rand {} / rand_distr {}",
         env!("RADFORCE_DEP_RAND_XOSHIRO"),
@@ -41,7 +41,7 @@ pub fn generator_description() -> String {
 }
 
 /// The crate versions that define the random streams.
-pub fn stream_crates() -> Vec<(&'static str, &'static str)> {
+pub(crate) fn stream_crates() -> Vec<(&'static str, &'static str)> {
     vec![
         ("rand", env!("RADFORCE_DEP_RAND")),
         ("rand_distr", env!("RADFORCE_DEP_RAND_DISTR")),
@@ -58,21 +58,21 @@ pub struct Samples {
     /// One column per measurand (report order).
     pub measurands: Vec<Vec<f64>>,
     /// One column per input quantity, when asked for (constants included).
-    pub inputs: Option<Vec<Vec<f64>>>,
+    pub(crate) inputs: Option<Vec<Vec<f64>>>,
     /// Mean and sum of squared deviations per measurand, combined in chunk order.
     pub moments: Vec<Moments>,
     /// Joint moments of each correlated input pair (in `study.correlations.pairs` order), for
     /// the achieved sample correlation.
-    pub input_pairs: Vec<CoMoments>,
+    pub(crate) input_pairs: Vec<CoMoments>,
     /// Joint moments of every pair of measurands (a < b, in the order (0,1), (0,2), ..., (1,2),
     /// ...), for their correlation matrix; combined in chunk order like the moments.
-    pub measurand_pairs: Vec<CoMoments>,
+    pub(crate) measurand_pairs: Vec<CoMoments>,
     /// The summary of every chunk, in chunk order (for shards, whose chunks interleave).
-    pub chunks: Vec<ChunkSummary>,
+    pub(crate) chunks: Vec<ChunkSummary>,
 }
 
 /// The pairs (a, b), a < b, of `n` measurands in the order of `Samples::measurand_pairs`.
-pub fn measurand_pair_order(n: usize) -> Vec<(usize, usize)> {
+pub(crate) fn measurand_pair_order(n: usize) -> Vec<(usize, usize)> {
     (0..n)
         .flat_map(|a| (a + 1..n).map(move |b| (a, b)))
         .collect()
@@ -80,7 +80,7 @@ pub fn measurand_pair_order(n: usize) -> Vec<(usize, usize)> {
 
 impl Samples {
     /// Append the trials of a later run (the next batch of an adaptive run).
-    pub fn append(&mut self, other: Samples) {
+    pub(crate) fn append(&mut self, other: Samples) {
         self.trials += other.trials;
         for (a, b) in self.measurands.iter_mut().zip(other.measurands) {
             a.extend_from_slice(&b);
@@ -107,16 +107,16 @@ impl Samples {
 #[derive(Clone, Copy, Debug)]
 pub struct Plan {
     /// Number of trials.
-    pub trials: u64,
+    pub(crate) trials: u64,
     /// Seed.
-    pub seed: u64,
+    pub(crate) seed: u64,
     /// Index of the first chunk: a run that continues a stream (the next batch of an adaptive
     /// run) starts past the chunks already drawn.
-    pub first_chunk: u64,
+    pub(crate) first_chunk: u64,
     /// Keep the input columns (for sensitivity and exports).
-    pub keep_inputs: bool,
+    pub(crate) keep_inputs: bool,
     /// Run only the chunks k with k mod N = K (`Some((K, N))`), for a shard of a run.
-    pub shard: Option<(u64, u64)>,
+    pub(crate) shard: Option<(u64, u64)>,
 }
 
 impl Plan {
@@ -132,7 +132,7 @@ impl Plan {
     }
 
     /// The chunks of the run (or of its shard), ascending, with their trial counts.
-    pub fn chunks(&self) -> Vec<(u64, usize)> {
+    pub(crate) fn chunks(&self) -> Vec<(u64, usize)> {
         let m = self.trials;
         let n = m.div_ceil(CHUNK_TRIALS as u64);
         (0..n)
@@ -149,19 +149,19 @@ impl Plan {
 
 /// What one chunk gives besides its values: the statistics that are merged in chunk order.
 #[derive(Clone, Debug, Default, PartialEq)]
-pub struct ChunkSummary {
+pub(crate) struct ChunkSummary {
     /// The chunk's index in the stream (`first_chunk` included).
-    pub index: u64,
+    pub(crate) index: u64,
     /// Moments of each measurand.
-    pub moments: Vec<Moments>,
+    pub(crate) moments: Vec<Moments>,
     /// Joint moments of each correlated input pair.
-    pub input_pairs: Vec<CoMoments>,
+    pub(crate) input_pairs: Vec<CoMoments>,
     /// Joint moments of each pair of measurands.
-    pub measurand_pairs: Vec<CoMoments>,
+    pub(crate) measurand_pairs: Vec<CoMoments>,
 }
 
 /// The merged statistics of chunk summaries, combined in ascending chunk order.
-pub fn merge_chunks(
+pub(crate) fn merge_chunks(
     chunks: &[ChunkSummary],
     measurands: usize,
     input_pairs: usize,
@@ -306,7 +306,7 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
 /// Run the chunks `chunks` of `plan` without keeping their values: each chunk's values are
 /// handed to `sink` (chunk index, one slice per measurand) as soon as they are made, and its
 /// summary is returned, in the order of `chunks`. For runs that do not fit in memory.
-pub fn stream_chunks<T: Send>(
+pub(crate) fn stream_chunks<T: Send>(
     study: &Study,
     plan: Plan,
     chunks: &[(u64, usize)],

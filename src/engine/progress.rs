@@ -7,12 +7,12 @@ static TRIALS_DONE: AtomicU64 = AtomicU64::new(0);
 static INTERRUPTED: AtomicBool = AtomicBool::new(false);
 
 /// Trials made so far in this process.
-pub fn trials_done() -> u64 {
+pub(crate) fn trials_done() -> u64 {
     TRIALS_DONE.load(Ordering::Relaxed)
 }
 
 /// Count trials made.
-pub fn add(trials: u64) {
+pub(crate) fn add(trials: u64) {
     TRIALS_DONE.fetch_add(trials, Ordering::Relaxed);
 }
 

@@ -10,17 +10,17 @@ use rayon::prelude::*;
 
 /// The shape of a sampled distribution, for figures.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Shape {
+pub(crate) struct Shape {
     /// The histogram of the values.
-    pub histogram: Histogram,
+    pub(crate) histogram: Histogram,
     /// A smooth density: a kernel estimate for a measurand, the stated density for an input.
-    pub density: Vec<(f64, f64)>,
+    pub(crate) density: Vec<(f64, f64)>,
 }
 
 /// Bins of a measurand's histogram.
-pub const MEASURAND_BINS: usize = 100;
+pub(crate) const MEASURAND_BINS: usize = 100;
 /// Bins of an input's histogram.
-pub const INPUT_BINS: usize = 60;
+pub(crate) const INPUT_BINS: usize = 60;
 
 fn measurand_shape(values: &[f64], s: &Summary) -> Option<Shape> {
     let (a, b) = s.symmetric_interval;
@@ -58,24 +58,24 @@ fn input_shape(values: &[f64], q: &InputQuantity) -> Option<Shape> {
 /// The Monte Carlo result of a run, whether its values were kept in memory, streamed, or made by
 /// shards on several machines: what the findings need and nothing more.
 #[derive(Clone, Debug, PartialEq)]
-pub struct MonteCarlo {
+pub(crate) struct MonteCarlo {
     /// Trials M.
-    pub trials: u64,
+    pub(crate) trials: u64,
     /// Per measurand.
-    pub summaries: Vec<Summary>,
+    pub(crate) summaries: Vec<Summary>,
     /// Joint moments of each pair of measurands (engine order).
-    pub measurand_pairs: Vec<CoMoments>,
+    pub(crate) measurand_pairs: Vec<CoMoments>,
     /// Joint moments of each correlated input pair.
-    pub input_pairs: Vec<CoMoments>,
+    pub(crate) input_pairs: Vec<CoMoments>,
     /// Shapes of the measurands' distributions (when their values were in memory).
-    pub shapes: Vec<Option<Shape>>,
+    pub(crate) shapes: Vec<Option<Shape>>,
     /// Shapes of the inputs' sampled distributions (when their columns were kept).
-    pub input_shapes: Vec<Option<Shape>>,
+    pub(crate) input_shapes: Vec<Option<Shape>>,
 }
 
 impl MonteCarlo {
     /// From values held in memory; the measurands are summarised in parallel.
-    pub fn from_samples(study: &Study, samples: &Samples) -> MonteCarlo {
+    pub(crate) fn from_samples(study: &Study, samples: &Samples) -> MonteCarlo {
         let summaries: Vec<Summary> = samples
             .measurands
             .par_iter()

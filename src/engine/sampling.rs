@@ -77,7 +77,7 @@ pub fn fill_inputs<R: Rng + Clone>(
 /// sampling, for quasi-random designs): `uniform(i, t)` gives the probability in (0, 1) of input
 /// i in row t of the block. Independent inputs take `quantile(u)`; a correlated group takes
 /// z = Phi^-1(u), x = L z, then its marginals as in [`fill_inputs`].
-pub fn fill_inputs_from_uniforms(
+pub(crate) fn fill_inputs_from_uniforms(
     study: &Study,
     steps: &[FillStep],
     uniform: &dyn Fn(usize, usize) -> f64,

@@ -19,13 +19,13 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
 
 /// Rows per chunk of a sensitivity design.
-pub const SENSITIVITY_CHUNK: usize = 4096;
+pub(crate) const SENSITIVITY_CHUNK: usize = 4096;
 
 /// Largest base sample of the quasi-random sampler (sobol_burley's sequence length).
-pub const MAX_SOBOL_ROWS: usize = 1 << 16;
+pub(crate) const MAX_SOBOL_ROWS: usize = 1 << 16;
 
 /// Most dimensions of the quasi-random sampler (sobol_burley).
-pub const MAX_SOBOL_DIMENSIONS: usize = 256;
+pub(crate) const MAX_SOBOL_DIMENSIONS: usize = 256;
 
 /// How the base samples A and B are drawn.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
@@ -40,20 +40,20 @@ pub enum BaseSampler {
 #[derive(Clone, Debug)]
 pub struct DesignRuns {
     /// Base rows N.
-    pub rows: usize,
+    pub(crate) rows: usize,
     /// The factors, each a list of input indices.
-    pub factors: Vec<Vec<usize>>,
+    pub(crate) factors: Vec<Vec<usize>>,
     /// f(A) per measurand, N values.
-    pub f_a: Vec<Vec<f64>>,
+    pub(crate) f_a: Vec<Vec<f64>>,
     /// f(B) per measurand.
-    pub f_b: Vec<Vec<f64>>,
+    pub(crate) f_b: Vec<Vec<f64>>,
     /// f(A_B^(i)) per measurand, per factor.
-    pub f_ab: Vec<Vec<Vec<f64>>>,
+    pub(crate) f_ab: Vec<Vec<Vec<f64>>>,
 }
 
 /// The factors of a study: every non-constant input, with each correlated group as one factor,
 /// in input order.
-pub fn factors(study: &Study) -> Vec<Vec<usize>> {
+pub(crate) fn factors(study: &Study) -> Vec<Vec<usize>> {
     let mut out: Vec<Vec<usize>> = Vec::new();
     for (i, q) in study.inputs.iter().enumerate() {
         if q.is_constant() {

@@ -17,7 +17,7 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 use std::sync::OnceLock;
 
 /// The generator of every stream.
-pub type Generator = Xoshiro256PlusPlus;
+pub(crate) type Generator = Xoshiro256PlusPlus;
 
 /// Low 256 coefficients of the characteristic polynomial of xoshiro256 (the x^256 term is
 /// implicit), as rand_xoshiro 0.8 uses them in `jump_ce`.

@@ -32,7 +32,7 @@ use rayon::prelude::*;
 const SUBSAMPLE: u64 = 1 << 20;
 
 /// Trials of the pilot of a one-pass run.
-pub const PILOT: u64 = 1 << 16;
+pub(crate) const PILOT: u64 = 1 << 16;
 
 /// Margin of the thresholds, in binomial standard deviations of the sample's rank.
 const SIGMAS: f64 = 6.0;
@@ -73,17 +73,17 @@ fn tail_capacity(n: usize, k: usize, m: u64, sigmas: f64) -> usize {
 
 /// The result of a run made without holding its values.
 #[derive(Clone, Debug)]
-pub struct TailRun {
+pub(crate) struct TailRun {
     /// What the findings need.
-    pub monte_carlo: MonteCarlo,
+    pub(crate) monte_carlo: MonteCarlo,
     /// Passes made over the random streams: 1, or 2 and more when the values had to be made
     /// again (one more for each group of measurands whose tails fit the budget together).
-    pub passes: u32,
+    pub(crate) passes: u32,
 }
 
 /// Run `plan` without holding its values: in one pass when the tails fit `budget`, else (or
 /// should a pilot threshold prove too tight) in two.
-pub fn simulate_tails(study: &Study, plan: Plan, budget: u64) -> Result<TailRun, RunError> {
+pub(crate) fn simulate_tails(study: &Study, plan: Plan, budget: u64) -> Result<TailRun, RunError> {
     simulate_tails_at(study, plan, budget, SIGMAS)
 }
 
@@ -132,7 +132,7 @@ fn finish(
 
 /// One pass with thresholds from a pilot at `sigmas`; `None` when the run needs two passes
 /// (too few trials for a pilot, tails beyond the budget, or a threshold too tight).
-pub fn one_pass(
+pub(crate) fn one_pass(
     study: &Study,
     plan: Plan,
     budget: u64,
@@ -204,7 +204,7 @@ pub fn one_pass(
 
 /// Run `plan` in two passes (or more, when the measurands' tails must be collected in groups),
 /// within `budget` bytes in all; returns the passes made.
-pub fn simulate_streamed(
+pub(crate) fn simulate_streamed(
     study: &Study,
     plan: Plan,
     budget: u64,

@@ -8,13 +8,12 @@
 //! their values, and however many values tie at a threshold (a measurand that is constant
 //! costs two counters, not M values).
 
-use crate::stats::intervals::sort_finite;
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicU64, Ordering};
 
 /// Values beyond two thresholds, offered by chunks in any order from any thread.
 #[derive(Debug)]
-pub struct TailCollector {
+pub(crate) struct TailCollector {
     low_threshold: f64,
     high_threshold: f64,
     below: Mutex<Vec<f64>>,
@@ -26,7 +25,7 @@ pub struct TailCollector {
 impl TailCollector {
     /// A collector for values below `low_threshold` and above `high_threshold`, each list
     /// reserved for `capacity` values.
-    pub fn new(low_threshold: f64, high_threshold: f64, capacity: usize) -> TailCollector {
+    pub(crate) fn new(low_threshold: f64, high_threshold: f64, capacity: usize) -> TailCollector {
         TailCollector {
             low_threshold,
             high_threshold,
@@ -40,7 +39,7 @@ impl TailCollector {
     /// Take in the values of one chunk (finite values; the engine checks them). A value with
     /// the very bits of a threshold is counted; any other at or beyond it (a zero of the other
     /// sign, as the thresholds compare) is held.
-    pub fn offer(&self, values: &[f64]) {
+    pub(crate) fn offer(&self, values: &[f64]) {
         let (lt, ht) = (self.low_threshold, self.high_threshold);
         let (lt_bits, ht_bits) = (lt.to_bits(), ht.to_bits());
         SCRATCH.with_borrow_mut(|(below, above)| {
@@ -77,13 +76,16 @@ impl TailCollector {
     }
 
     /// Values held so far (for the memory check of a caller).
-    pub fn held(&self) -> usize {
+    #[cfg(test)]
+    pub(crate) fn held(&self) -> usize {
         lock(&self.below).len() + lock(&self.above).len()
     }
 
     /// The k smallest and the k largest values offered, each sorted ascending; `None` when a
     /// threshold was too tight (fewer than k values at or beyond it).
-    pub fn finish(self, k: usize) -> Option<(Vec<f64>, Vec<f64>)> {
+    #[cfg(test)]
+    pub(crate) fn finish(self, k: usize) -> Option<(Vec<f64>, Vec<f64>)> {
+        use crate::stats::intervals::sort_finite;
         let (mut low, mut high) = self.finish_unsorted(k)?;
         rayon::join(|| sort_finite(&mut low), || sort_finite(&mut high));
         low.truncate(k);
@@ -96,7 +98,7 @@ impl TailCollector {
     /// [`intervals_from_unsorted_tails`](crate::stats::tail_buckets::intervals_from_unsorted_tails);
     /// `None` when a threshold was too tight. The values counted at a threshold are put in as
     /// copies of it, at most k of them (no more can be among the k).
-    pub fn finish_unsorted(self, k: usize) -> Option<(Vec<f64>, Vec<f64>)> {
+    pub(crate) fn finish_unsorted(self, k: usize) -> Option<(Vec<f64>, Vec<f64>)> {
         let at_low = self.at_low.into_inner() as usize;
         let at_high = self.at_high.into_inner() as usize;
         let mut low = self.below.into_inner().unwrap_or_else(|e| e.into_inner());
@@ -126,7 +128,7 @@ fn lock(m: &Mutex<Vec<f64>>) -> std::sync::MutexGuard<'_, Vec<f64>> {
 /// plus 16 ranks, so that fewer than k of the M values fall beyond a threshold only with a
 /// probability of the normal tail beyond `sigmas` (common practice for selection by sampling).
 /// Two selections, no sort.
-pub fn thresholds(sample: &mut [f64], k: usize, m: usize, sigmas: f64) -> (f64, f64) {
+pub(crate) fn thresholds(sample: &mut [f64], k: usize, m: usize, sigmas: f64) -> (f64, f64) {
     let n = sample.len();
     let frac = k as f64 / m as f64;
     let margin = sigmas * (n as f64 * frac * (1.0 - frac)).sqrt() + 16.0_f64.copysign(sigmas);

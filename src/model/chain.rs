@@ -44,7 +44,7 @@ pub struct ChainInput {
 }
 
 /// A chain input, written compactly in the chain files' tables.
-pub const fn input(
+pub(crate) const fn input(
     name: &'static str,
     dimension: Dimension,
     default: Option<f64>,
@@ -62,7 +62,7 @@ pub const fn input(
 
 /// The mirror and beam inputs every chain takes, in this order: R, theta, w, a, T, Rd (the
 /// terms of `physics::momentum::normal_force_factor` and `physics::beam`).
-pub const MIRROR_AND_BEAM_INPUTS: [ChainInput; 6] = [
+pub(crate) const MIRROR_AND_BEAM_INPUTS: [ChainInput; 6] = [
     input(
         "reflectance",
         Dimension::NONE,
@@ -108,7 +108,7 @@ pub const MIRROR_AND_BEAM_INPUTS: [ChainInput; 6] = [
 ];
 
 /// The input `[noise]` makes, which every chain adds to its force.
-pub const NOISE_FORCE_INPUT: ChainInput = input(
+pub(crate) const NOISE_FORCE_INPUT: ChainInput = input(
     "noise_force",
     Dimension::FORCE,
     Some(0.0),
@@ -118,7 +118,7 @@ pub const NOISE_FORCE_INPUT: ChainInput = input(
 
 /// The inputs of `parts` one after the other, as one table of N (checked when the table is
 /// built, at compile time).
-pub const fn join<const N: usize>(parts: &[&[ChainInput]]) -> [ChainInput; N] {
+pub(crate) const fn join<const N: usize>(parts: &[&[ChainInput]]) -> [ChainInput; N] {
     let mut all = [NOISE_FORCE_INPUT; N];
     let (mut p, mut n) = (0, 0);
     while p < parts.len() {
@@ -160,7 +160,7 @@ pub struct ChainSpec {
 
 impl ChainSpec {
     /// Position of an input by name.
-    pub fn input_index(&self, name: &str) -> Option<usize> {
+    pub(crate) fn input_index(&self, name: &str) -> Option<usize> {
         self.inputs.iter().position(|i| i.name == name)
     }
 }
@@ -168,21 +168,21 @@ impl ChainSpec {
 /// A problem a chain finds with a scenario, in plain data: the scenario reader turns it into an
 /// error that points at the place in the file.
 #[derive(Clone, Debug, PartialEq)]
-pub struct ChainIssue {
+pub(crate) struct ChainIssue {
     /// The dotted key the message is about (`inputs.reflectance`), or empty for the table asked
     /// about (`[noise]` for noise terms).
-    pub key: &'static str,
+    pub(crate) key: &'static str,
     /// The inputs whose table to point at, the first one the scenario defines (empty: the table).
-    pub inputs: &'static [&'static str],
+    pub(crate) inputs: &'static [&'static str],
     /// What is wrong.
-    pub message: String,
+    pub(crate) message: String,
     /// A valid way to write it.
-    pub example: String,
+    pub(crate) example: String,
 }
 
 impl ChainIssue {
     /// An issue with the table asked about (e.g. `[noise]`).
-    pub fn table(message: impl Into<String>, example: impl Into<String>) -> ChainIssue {
+    pub(crate) fn table(message: impl Into<String>, example: impl Into<String>) -> ChainIssue {
         ChainIssue {
             key: "",
             inputs: &[],
@@ -195,15 +195,15 @@ impl ChainIssue {
 /// What a chain can know of the scenario's inputs before a run: an input's estimate (or the
 /// chain's default when the scenario leaves it out) and the upper end of its distribution (the
 /// quantile at 1 - 1e-12, the value itself for a constant), by name.
-pub struct InputValues<'a> {
+pub(crate) struct InputValues<'a> {
     /// The estimate of an input by name (the chain default when the scenario leaves it out).
-    pub estimate: &'a dyn Fn(&str) -> Option<f64>,
+    pub(crate) estimate: &'a dyn Fn(&str) -> Option<f64>,
     /// The upper end of an input the scenario defines, by name.
-    pub upper: &'a dyn Fn(&str) -> Option<f64>,
+    pub(crate) upper: &'a dyn Fn(&str) -> Option<f64>,
 }
 
 /// A built-in measurement chain: a named model over `physics` functions.
-pub trait Chain {
+pub(crate) trait Chain {
     /// Its name, inputs and measurands.
     const SPEC: ChainSpec;
 
@@ -238,7 +238,7 @@ pub trait Chain {
 /// The checks of the mirror and beam inputs: R + T + Rd must not exceed 1 anywhere in their
 /// distributions (the absorptance would be negative); a warning when more than 1 % of the
 /// Gaussian beam misses the mirror.
-pub fn mirror_checks(inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
+pub(crate) fn mirror_checks(inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
     let upper = |n: &str| (inputs.upper)(n).unwrap_or(0.0);
     let (r, t, rd) = (
         upper("reflectance"),

@@ -9,7 +9,7 @@
 pub mod chain;
 pub mod formula;
 
-pub use chain::{Chain, ChainInput, ChainIssue, ChainMeasurand, ChainSpec, Domain, InputValues};
+pub(crate) use chain::{Chain, ChainInput, ChainIssue, ChainSpec, Domain, InputValues};
 
 use crate::physics::noise::NoiseSettings;
 use crate::scalar::Scalar;
@@ -25,16 +25,16 @@ macro_rules! chains {
 
         /// The built-in chains.
         #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-        pub enum ChainKind {
+        pub(crate) enum ChainKind {
             $($($(#[$doc])* $variant,)*)*
         }
 
         impl ChainKind {
             /// Every chain, in the order shown to users.
-            pub const ALL: &'static [ChainKind] = &[$($(ChainKind::$variant,)*)*];
+            pub(crate) const ALL: &'static [ChainKind] = &[$($(ChainKind::$variant,)*)*];
 
             /// Its name, inputs and measurands.
-            pub fn spec(self) -> &'static ChainSpec {
+            pub(crate) fn spec(self) -> &'static ChainSpec {
                 match self {
                     $($(ChainKind::$variant => &<$module::$ty as Chain>::SPEC,)*)*
                 }
@@ -42,7 +42,7 @@ macro_rules! chains {
 
             /// The chain's own white force-noise terms from `[noise]` (see
             /// [`Chain::instrument_noise`]).
-            pub fn instrument_noise(
+            pub(crate) fn instrument_noise(
                 self,
                 settings: &NoiseSettings,
                 inputs: &InputValues<'_>,
@@ -53,7 +53,7 @@ macro_rules! chains {
             }
 
             /// The chain's checks across inputs at load (see [`Chain::cross_checks`]).
-            pub fn cross_checks(self, inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
+            pub(crate) fn cross_checks(self, inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
                 match self {
                     $($(ChainKind::$variant => <$module::$ty as Chain>::cross_checks(inputs),)*)*
                 }
@@ -88,14 +88,14 @@ chains! {
 
 impl ChainKind {
     /// Look a chain up by its scenario name.
-    pub fn from_name(name: &str) -> Option<ChainKind> {
+    pub(crate) fn from_name(name: &str) -> Option<ChainKind> {
         Self::ALL.iter().copied().find(|c| c.spec().name == name)
     }
 }
 
 /// Where a chain argument comes from.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub enum ArgSource {
+pub(crate) enum ArgSource {
     /// A column of the trial block (an input quantity).
     Column(usize),
     /// A fixed value (a chain default for an input the scenario left out).
@@ -103,41 +103,41 @@ pub enum ArgSource {
 }
 
 /// The most arguments a chain takes.
-pub const MAX_CHAIN_ARGS: usize = 24;
+pub(crate) const MAX_CHAIN_ARGS: usize = 24;
 /// The most measurands a chain gives.
-pub const MAX_CHAIN_OUTPUTS: usize = 8;
+pub(crate) const MAX_CHAIN_OUTPUTS: usize = 8;
 
 /// A chain with its arguments bound to columns.
 #[derive(Clone, Debug, PartialEq)]
-pub struct BoundChain {
+pub(crate) struct BoundChain {
     /// Which chain.
-    pub kind: ChainKind,
+    pub(crate) kind: ChainKind,
     /// One source per chain input, in spec order.
-    pub args: Vec<ArgSource>,
+    pub(crate) args: Vec<ArgSource>,
     /// Column of the chain's first measurand; the rest follow in spec order.
-    pub first_output: usize,
+    pub(crate) first_output: usize,
 }
 
 /// A formula measurand.
 #[derive(Clone, Debug, PartialEq)]
-pub struct FormulaStep {
+pub(crate) struct FormulaStep {
     /// Column the result goes to.
-    pub column: usize,
+    pub(crate) column: usize,
     /// The compiled formula.
-    pub program: Program,
+    pub(crate) program: Program,
 }
 
 /// A compiled measurement model.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Model {
     /// Number of input columns.
-    pub inputs: usize,
+    pub(crate) inputs: usize,
     /// Number of measurand columns.
-    pub measurands: usize,
+    pub(crate) measurands: usize,
     /// The chain, if any; evaluated first.
-    pub chain: Option<BoundChain>,
+    pub(crate) chain: Option<BoundChain>,
     /// Formula measurands in an order where each comes after everything it uses.
-    pub steps: Vec<FormulaStep>,
+    pub(crate) steps: Vec<FormulaStep>,
 }
 
 impl Model {

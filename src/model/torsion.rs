@@ -194,7 +194,7 @@ fn setup<T: Scalar>(a: &[T]) -> Setup<T> {
 
 /// `torsion-power`: laser power from the deflection of a torsion pendulum read by an optical
 /// lever. Outputs: power, force, torsion_constant.
-pub struct TorsionPower;
+pub(crate) struct TorsionPower;
 
 impl Chain for TorsionPower {
     const SPEC: ChainSpec = TORSION_POWER;
@@ -220,7 +220,7 @@ impl Chain for TorsionPower {
 
 /// `torsion-signal`: the force, torque, deflection and optical-lever reading a given laser
 /// power produces. Outputs: force, torque, deflection_angle, readout_shift.
-pub struct TorsionSignal;
+pub(crate) struct TorsionSignal;
 
 impl Chain for TorsionSignal {
     const SPEC: ChainSpec = TORSION_SIGNAL;

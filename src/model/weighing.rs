@@ -138,7 +138,7 @@ fn force_per_watt<T: Scalar>(a: &[T]) -> T {
 
 /// `weighing-power`: laser power from the reading of a force balance or mass comparator under a
 /// mirror. Outputs: power, force.
-pub struct WeighingPower;
+pub(crate) struct WeighingPower;
 
 impl Chain for WeighingPower {
     const SPEC: ChainSpec = WEIGHING_POWER;
@@ -154,7 +154,7 @@ impl Chain for WeighingPower {
 
 /// `weighing-signal`: the balance reading and the force a given laser power produces. Outputs:
 /// reading, force.
-pub struct WeighingSignal;
+pub(crate) struct WeighingSignal;
 
 impl Chain for WeighingSignal {
     const SPEC: ChainSpec = WEIGHING_SIGNAL;

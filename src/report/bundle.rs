@@ -13,7 +13,7 @@ use crate::engine::Samples;
 use serde_json::{Value, json};
 
 /// Trials written to `samples.csv` by default.
-pub const DEFAULT_SAMPLE_ROWS: usize = 10_000;
+pub(crate) const DEFAULT_SAMPLE_ROWS: usize = 10_000;
 
 fn lines(text: &str) -> Value {
     let parts: Vec<&str> = text.split_inclusive('\n').collect();
@@ -29,7 +29,7 @@ fn code(id: usize, text: &str) -> Value {
 }
 
 /// The notebook.
-pub fn notebook(f: &Findings) -> Vec<u8> {
+pub(crate) fn notebook(f: &Findings) -> Vec<u8> {
     let mut intro = format!("# {}\n\n", f.title);
     for m in &f.measurands {
         intro.push_str(&headline(f, m));
@@ -121,7 +121,7 @@ rows[["input", "distribution", "estimate", "standard_uncertainty", "sensitivity"
 }
 
 /// The files of the bundle, (name, bytes), in a fixed order.
-pub fn bundle(
+pub(crate) fn bundle(
     f: &Findings,
     samples: &Samples,
     max_rows: usize,

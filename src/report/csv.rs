@@ -7,7 +7,7 @@ use crate::analysis::planning::{Comparison, PlanFinding};
 use crate::engine::Samples;
 
 /// The CSV exporter.
-pub struct CsvReport;
+pub(crate) struct CsvReport;
 
 fn g(x: f64) -> String {
     // Shortest text that reads back to the same f64; exponent form outside 1e-5..1e16 so that
@@ -36,7 +36,7 @@ fn table(header: &[&str], rows: Vec<Vec<String>>) -> Vec<u8> {
 }
 
 /// One row per measurand: the Monte Carlo result and the LPU beside it.
-pub fn summary(f: &Findings) -> Vec<u8> {
+pub(crate) fn summary(f: &Findings) -> Vec<u8> {
     let rows = f
         .measurands
         .iter()
@@ -92,7 +92,7 @@ pub fn summary(f: &Findings) -> Vec<u8> {
 }
 
 /// One row per measurand and input of the uncertainty budget.
-pub fn budget(f: &Findings) -> Vec<u8> {
+pub(crate) fn budget(f: &Findings) -> Vec<u8> {
     let mut rows = Vec::new();
     for m in &f.measurands {
         let k = m.unit.factor;
@@ -133,7 +133,7 @@ pub fn budget(f: &Findings) -> Vec<u8> {
 
 /// The trials as CSV: one column per input (SI) and per measurand (in its reported unit), every
 /// trial or, with `max_rows`, rows evenly thinned (row j of N is trial floor(j M / N)).
-pub fn samples(f: &Findings, s: &Samples, max_rows: Option<usize>) -> Vec<u8> {
+pub(crate) fn samples(f: &Findings, s: &Samples, max_rows: Option<usize>) -> Vec<u8> {
     let m = s.trials;
     let n = max_rows.map_or(m, |r| r.min(m));
     let mut header: Vec<String> = Vec::new();

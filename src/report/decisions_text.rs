@@ -7,7 +7,7 @@ use super::table::TextTable;
 use crate::analysis::planning::{Comparison, PlanFinding};
 
 /// "relative expanded uncertainty 0.10 % (95 %)" and the like.
-pub fn target_words(p: &PlanFinding, coverage: f64) -> String {
+pub(crate) fn target_words(p: &PlanFinding, coverage: f64) -> String {
     let kind = if p.spec.expanded {
         format!("expanded uncertainty ({} coverage)", percent(coverage))
     } else {
@@ -21,7 +21,7 @@ pub fn target_words(p: &PlanFinding, coverage: f64) -> String {
 }
 
 /// A value in the plan's terms.
-pub fn target_value(p: &PlanFinding, v: f64) -> String {
+pub(crate) fn target_value(p: &PlanFinding, v: f64) -> String {
     if p.spec.relative {
         format!("{} %", significant(100.0 * v, 3))
     } else {
@@ -32,7 +32,7 @@ pub fn target_value(p: &PlanFinding, v: f64) -> String {
 }
 
 /// The comparison table.
-pub fn comparison(c: &Comparison) -> String {
+pub(crate) fn comparison(c: &Comparison) -> String {
     let mut out = String::new();
     let first = &c.rows[0];
     let m = &first.findings.measurands[first.measurand];
@@ -123,7 +123,7 @@ pub fn comparison(c: &Comparison) -> String {
 }
 
 /// The plan.
-pub fn plan(p: &PlanFinding) -> String {
+pub(crate) fn plan(p: &PlanFinding) -> String {
     let f = &p.verification;
     let m = &f.measurands[p.measurand];
     let mut out = String::new();

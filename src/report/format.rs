@@ -9,7 +9,7 @@ use crate::units::{DisplayUnit, readable_unit};
 
 /// Decimal exponent of the last digit kept when `u` is shown to `digits` significant digits
 /// (after rounding, so 0.0996 to two digits keeps 0.10, exponent -2).
-pub fn last_digit_exponent(u: f64, digits: i32) -> i32 {
+pub(crate) fn last_digit_exponent(u: f64, digits: i32) -> i32 {
     if !(u.is_finite() && u > 0.0) {
         return -6;
     }
@@ -22,7 +22,7 @@ pub fn last_digit_exponent(u: f64, digits: i32) -> i32 {
 }
 
 /// Format `x` rounded at decimal exponent `e` (e = -3 gives three decimals).
-pub fn fixed(x: f64, e: i32) -> String {
+pub(crate) fn fixed(x: f64, e: i32) -> String {
     let s = if e < 0 {
         format!("{:.*}", (-e) as usize, x)
     } else {
@@ -38,7 +38,7 @@ pub fn fixed(x: f64, e: i32) -> String {
 }
 
 /// A value and its uncertainty by the GUM rule, in the same unit: ("25.013", "0.052", e).
-pub fn value_and_uncertainty(x: f64, u: f64) -> (String, String, i32) {
+pub(crate) fn value_and_uncertainty(x: f64, u: f64) -> (String, String, i32) {
     let e = last_digit_exponent(u, 2);
     (fixed(x, e), fixed(u, e), e)
 }
@@ -46,7 +46,7 @@ pub fn value_and_uncertainty(x: f64, u: f64) -> (String, String, i32) {
 /// A relative uncertainty (u / |y|) as a percentage with two significant digits ("0.21 %"), or
 /// "-" when there is none (the estimate is zero) or it reaches 100 % (a relative uncertainty
 /// above 100 % says nothing useful about a quantity that is compatible with zero).
-pub fn relative_percent(relative: Option<f64>) -> String {
+pub(crate) fn relative_percent(relative: Option<f64>) -> String {
     let Some(rel) = relative.filter(|r| *r < 1.0) else {
         return "-".to_string();
     };
@@ -58,7 +58,7 @@ pub fn relative_percent(relative: Option<f64>) -> String {
 }
 
 /// The unit a measurand is shown in: the declared one, or a readable SI prefix for its size.
-pub fn measurand_unit(m: &MeasurandFinding) -> DisplayUnit {
+pub(crate) fn measurand_unit(m: &MeasurandFinding) -> DisplayUnit {
     if m.unit_declared {
         return m.unit.clone();
     }
@@ -82,14 +82,14 @@ fn awkward(x: f64) -> bool {
 }
 
 /// Scientific notation with `decimals` digits after the point ("1.2000e-4").
-pub fn scientific(x: f64, decimals: usize) -> String {
+pub(crate) fn scientific(x: f64, decimals: usize) -> String {
     format!("{x:.decimals$e}")
 }
 
 /// An input's estimate and uncertainty with the unit to show them in: the unit the scenario
 /// wrote, a readable SI prefix when the numbers would read badly in it, or scientific notation
 /// for units that take no prefix. `u = None` marks a constant (shown exactly).
-pub fn input_pair(
+pub(crate) fn input_pair(
     x: f64,
     u: Option<f64>,
     shown: &DisplayUnit,
@@ -131,7 +131,7 @@ pub fn input_pair(
 }
 
 /// `x` to `n` significant digits: fixed notation for moderate sizes, scientific otherwise.
-pub fn significant(x: f64, n: usize) -> String {
+pub(crate) fn significant(x: f64, n: usize) -> String {
     if x == 0.0 {
         return "0".into();
     }
@@ -148,19 +148,19 @@ pub fn significant(x: f64, n: usize) -> String {
 }
 
 /// A number in its shortest exact form, for constants.
-pub fn exact(x: f64) -> String {
+pub(crate) fn exact(x: f64) -> String {
     format!("{x}")
 }
 
 /// A probability as a percentage ("95 %").
-pub fn percent(p: f64) -> String {
+pub(crate) fn percent(p: f64) -> String {
     let s = format!("{:.4}", 100.0 * p);
     let s = s.trim_end_matches('0').trim_end_matches('.');
     format!("{s} %")
 }
 
 /// Group digits of a count: 1000000 -> "1 000 000" (SI Brochure 5.4.4).
-pub fn grouped(n: u64) -> String {
+pub(crate) fn grouped(n: u64) -> String {
     let s = n.to_string();
     let mut out = String::new();
     for (i, c) in s.chars().enumerate() {
@@ -173,7 +173,7 @@ pub fn grouped(n: u64) -> String {
 }
 
 /// A duration in readable units.
-pub fn duration(t: f64) -> String {
+pub(crate) fn duration(t: f64) -> String {
     if t < 120.0 {
         format!("{} s", significant(t, 3))
     } else if t < 7200.0 {
@@ -186,7 +186,7 @@ pub fn duration(t: f64) -> String {
 }
 
 /// A force in a readable unit.
-pub fn force_text(x: f64) -> String {
+pub(crate) fn force_text(x: f64) -> String {
     let u = crate::units::readable_unit(crate::units::Dimension::FORCE, x);
     format!("{} {}", significant(x / u.factor, 3), u.symbol)
 }

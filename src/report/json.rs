@@ -12,7 +12,7 @@ use serde::Serialize;
 use serde_json::{Map, Value};
 
 /// The JSON report.
-pub struct JsonReport;
+pub(crate) struct JsonReport;
 
 /// An interval [low, high].
 type Pair = [f64; 2];
@@ -23,7 +23,7 @@ fn pair(p: (f64, f64), k: f64) -> Pair {
 
 /// The JSON of a run.
 #[derive(Serialize)]
-pub struct RunJson<'a> {
+pub(crate) struct RunJson<'a> {
     title: &'a str,
     trials: u64,
     seed: u64,
@@ -300,7 +300,7 @@ fn measurand_json<'a>(f: &'a Findings, i: usize, m: &'a MeasurandFinding) -> Mea
 }
 
 /// The JSON of a run, as typed data.
-pub fn run_json(f: &Findings) -> RunJson<'_> {
+pub(crate) fn run_json(f: &Findings) -> RunJson<'_> {
     let mut stream_crates = Map::new();
     for (name, version) in &f.stream_crates {
         stream_crates.insert((*name).to_string(), Value::from(*version));
@@ -421,7 +421,7 @@ pub fn run_json(f: &Findings) -> RunJson<'_> {
 
 /// The JSON of a comparison: `comparison` rows as DESIGN's issue fixes them, with more fields.
 #[derive(Serialize)]
-pub struct ComparisonJson<'a> {
+pub(crate) struct ComparisonJson<'a> {
     comparison: Vec<ComparisonRowJson<'a>>,
     trials: u64,
     seed: u64,
@@ -456,7 +456,7 @@ struct TopJson<'a> {
 }
 
 /// The JSON of a comparison, as typed data.
-pub fn comparison_json(c: &Comparison) -> ComparisonJson<'_> {
+pub(crate) fn comparison_json(c: &Comparison) -> ComparisonJson<'_> {
     ComparisonJson {
         comparison: c
             .rows
@@ -506,7 +506,7 @@ pub fn comparison_json(c: &Comparison) -> ComparisonJson<'_> {
 /// The JSON of a plan: `plan` {`measurand`, `target`, `achieved`, `changes`} in the terms the
 /// user asked for, with more fields.
 #[derive(Serialize)]
-pub struct PlanJson<'a> {
+pub(crate) struct PlanJson<'a> {
     plan: PlanBodyJson<'a>,
     trials: u64,
     seed: u64,
@@ -549,7 +549,7 @@ struct AloneJson<'a> {
 }
 
 /// The JSON of a plan, as typed data.
-pub fn plan_json(p: &PlanFinding) -> PlanJson<'_> {
+pub(crate) fn plan_json(p: &PlanFinding) -> PlanJson<'_> {
     let f = &p.verification;
     let m = &f.measurands[p.measurand];
     // A relative target is a pure number; an absolute one is shown in the measurand's unit.
@@ -633,7 +633,7 @@ const NULLABLE: &[&str] = &[
 ];
 
 /// Check that no number was lost: every null sits in a nullable field.
-pub fn check_numbers(v: &Value, key: &str) -> Result<(), String> {
+pub(crate) fn check_numbers(v: &Value, key: &str) -> Result<(), String> {
     match v {
         Value::Null if !NULLABLE.contains(&key) => Err(format!("`{key}` is not a finite number")),
         Value::Array(a) => a.iter().try_for_each(|x| check_numbers(x, key)),
@@ -643,7 +643,7 @@ pub fn check_numbers(v: &Value, key: &str) -> Result<(), String> {
 }
 
 /// Pretty-printed JSON text with a final newline.
-pub fn pretty(v: &Value) -> Vec<u8> {
+pub(crate) fn pretty(v: &Value) -> Vec<u8> {
     let mut s = serde_json::to_string_pretty(v).unwrap_or_default();
     s.push('\n');
     s.into_bytes()

@@ -11,11 +11,11 @@ use crate::analysis::{Findings, MeasurandFinding};
 
 /// Where the figures are, to link them.
 #[derive(Clone, Debug)]
-pub struct MarkdownReport {
+pub(crate) struct MarkdownReport {
     /// The folder given to `--plots`, as written.
-    pub figures: Option<String>,
+    pub(crate) figures: Option<String>,
     /// The format of the figures.
-    pub plot_format: super::plots::PlotFormat,
+    pub(crate) plot_format: super::plots::PlotFormat,
 }
 
 fn table(headers: &[&str], rows: &[Vec<String>]) -> String {
@@ -63,7 +63,7 @@ fn shares_sentence(f: &Findings, m: &MeasurandFinding) -> String {
 }
 
 /// The plain-words sentence about one measurand.
-pub fn headline(f: &Findings, m: &MeasurandFinding) -> String {
+pub(crate) fn headline(f: &Findings, m: &MeasurandFinding) -> String {
     let s = &m.monte_carlo;
     let unit = measurand_unit(m);
     let (y, u, _) = value_and_uncertainty(

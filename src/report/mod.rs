@@ -6,16 +6,16 @@
 //! To add a format: write `src/report/<name>.rs` with a struct and `impl Exporter` (see
 //! `csv.rs`), and add one line to the list below; `--format <name>` then offers it.
 
-pub mod bundle;
-pub mod cautions;
+pub(crate) mod bundle;
+pub(crate) mod cautions;
 mod decisions_text;
-pub mod format;
+pub(crate) mod format;
 pub mod plots;
-pub mod table;
+pub(crate) mod table;
 
 use crate::analysis::Findings;
 use crate::analysis::planning::{Comparison, PlanFinding};
-pub use plots::PlotFormat;
+pub(crate) use plots::PlotFormat;
 
 /// What a command reports.
 #[derive(Clone, Copy, Debug)]
@@ -28,28 +28,17 @@ pub enum Report<'a> {
     Plan(&'a PlanFinding),
 }
 
-impl Report<'_> {
-    /// Whether any study in the report involves a laser (the laser caution applies).
-    pub fn laser(&self) -> bool {
-        match self {
-            Report::Run(f) => f.laser,
-            Report::Compare(c) => c.rows.iter().any(|r| r.findings.laser),
-            Report::Plan(p) => p.verification.laser,
-        }
-    }
-}
-
 /// What an exporter may need besides the report: where the figures were written, for links.
 #[derive(Clone, Debug, Default)]
-pub struct Context {
+pub(crate) struct Context {
     /// The folder of `--plots`, as given.
-    pub figures: Option<String>,
+    pub(crate) figures: Option<String>,
     /// The format of the figures.
-    pub plot_format: PlotFormat,
+    pub(crate) plot_format: PlotFormat,
 }
 
 /// An output format.
-pub trait Exporter {
+pub(crate) trait Exporter {
     /// The exporter for a context.
     fn new(context: &Context) -> Self
     where
@@ -66,12 +55,12 @@ macro_rules! formats {
 
         /// The formats of `--format`.
         #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
-        pub enum Format {
+        pub(crate) enum Format {
             $($(#[$doc])* $variant,)*
         }
 
         /// The exporter of a format.
-        pub fn exporter(format: Format, context: &Context) -> Box<dyn Exporter> {
+        pub(crate) fn exporter(format: Format, context: &Context) -> Box<dyn Exporter> {
             match format {
                 $(Format::$variant => Box::new(<$module::$ty as Exporter>::new(context)),)*
             }

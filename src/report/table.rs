@@ -1,14 +1,14 @@
 //! Plain-text tables with aligned columns.
 
 /// A table of text cells; the first row is the header.
-pub struct TextTable {
+pub(crate) struct TextTable {
     rows: Vec<Vec<String>>,
     right: Vec<bool>,
 }
 
 impl TextTable {
     /// A table with these headers; `right[i]` right-aligns column i.
-    pub fn new(headers: &[&str], right: &[bool]) -> Self {
+    pub(crate) fn new(headers: &[&str], right: &[bool]) -> Self {
         TextTable {
             rows: vec![headers.iter().map(|h| h.to_string()).collect()],
             right: right.to_vec(),
@@ -16,12 +16,12 @@ impl TextTable {
     }
 
     /// Append a row.
-    pub fn row(&mut self, cells: Vec<String>) {
+    pub(crate) fn row(&mut self, cells: Vec<String>) {
         self.rows.push(cells);
     }
 
     /// Render with two spaces between columns and a rule under the header.
-    pub fn render(&self) -> String {
+    pub(crate) fn render(&self) -> String {
         let cols = self.rows.iter().map(Vec::len).max().unwrap_or(0);
         let mut widths = vec![0; cols];
         for r in &self.rows {

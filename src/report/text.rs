@@ -10,7 +10,7 @@ use super::table::TextTable;
 use crate::analysis::{Findings, MeasurandFinding};
 
 /// Human-readable tables of the results, with GUM rounding and readable units.
-pub struct TextReport;
+pub(crate) struct TextReport;
 
 impl Exporter for TextReport {
     fn new(_: &Context) -> Self {

@@ -8,7 +8,7 @@ use crate::error::{Error, InputError, RunError};
 use crate::report::{self, Context, Report};
 
 /// Refuse before any work what could not be written afterwards.
-pub fn check_outputs(out: &OutputArgs) -> Result<(), Error> {
+pub(crate) fn check_outputs(out: &OutputArgs) -> Result<(), Error> {
     if let Some(path) = &out.output {
         output::check_writable(path, out.force)?;
     }
@@ -30,7 +30,7 @@ fn numerical(m: String) -> Error {
 }
 
 /// Write the figures and the report; the report's bytes come back when they go to stdout.
-pub fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<Vec<u8>, Error> {
+pub(crate) fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<Vec<u8>, Error> {
     let context = Context {
         figures: out.plots.as_ref().map(|d| d.display().to_string()),
         plot_format: out.plot_format,

@@ -13,25 +13,25 @@ use crate::error::{Error, InputError};
 use crate::scenario::{Law, Study};
 
 pub mod commands;
-pub mod deliver;
+pub(crate) mod deliver;
 pub mod options;
-pub mod output;
-pub mod progress;
-pub mod shard;
+pub(crate) mod output;
+pub(crate) mod progress;
+pub(crate) mod shard;
 
 /// How to run a study.
 #[derive(Clone, Copy, Debug)]
-pub struct RunOptions {
+pub(crate) struct RunOptions {
     /// Most bytes the samples may take.
-    pub memory_budget: u64,
+    pub(crate) memory_budget: u64,
     /// Keep the input columns, and so every value in memory (for sensitivity, figures of the
     /// distributions, the samples file and exports). Without them a long run keeps only the
     /// tails of its measurands' values (`engine::streaming`).
-    pub keep_inputs: bool,
+    pub(crate) keep_inputs: bool,
 }
 
 /// Whether a fixed run of the study fits the memory budget with its values held in memory.
-pub fn fits_in_memory(study: &Study, options: &RunOptions) -> bool {
+pub(crate) fn fits_in_memory(study: &Study, options: &RunOptions) -> bool {
     let columns = study.model.measurands
         + if options.keep_inputs {
             study.inputs.len()
@@ -44,7 +44,7 @@ pub fn fits_in_memory(study: &Study, options: &RunOptions) -> bool {
 /// The trials `sweep_study` will make, for a progress bar: M per pass (two passes when the
 /// samples do not fit the budget), for the main run and each sweep point; `None` for an
 /// adaptive run, whose length is not known in advance.
-pub fn expected_trials(study: &Study, options: &RunOptions) -> Option<u64> {
+pub(crate) fn expected_trials(study: &Study, options: &RunOptions) -> Option<u64> {
     if study.adaptive.is_some() {
         return None;
     }
@@ -61,7 +61,7 @@ pub fn expected_trials(study: &Study, options: &RunOptions) -> Option<u64> {
 
 /// Refuse a run that cannot be made within the memory budget: one that must keep its input
 /// columns (rank, exports) and does not fit. Others that do not fit are streamed in two passes.
-pub fn check_memory(study: &Study, options: &RunOptions) -> Result<(), Error> {
+pub(crate) fn check_memory(study: &Study, options: &RunOptions) -> Result<(), Error> {
     if study.adaptive.is_some() || !options.keep_inputs {
         return Ok(());
     }
@@ -92,22 +92,22 @@ pub fn check_memory(study: &Study, options: &RunOptions) -> Result<(), Error> {
 
 /// Settings of a sensitivity ranking.
 #[derive(Clone, Copy, Debug)]
-pub struct RankOptions {
+pub(crate) struct RankOptions {
     /// Base rows N of the design.
-    pub base_rows: usize,
+    pub(crate) base_rows: usize,
     /// How the base samples are drawn.
-    pub sampler: BaseSampler,
+    pub(crate) sampler: BaseSampler,
     /// Bootstrap replicates for the intervals.
-    pub replicates: usize,
+    pub(crate) replicates: usize,
 }
 
 /// Default base rows N: 2^15 (the Ishigami indices come out within about 0.01).
-pub const DEFAULT_BASE_ROWS: usize = 1 << 15;
+pub(crate) const DEFAULT_BASE_ROWS: usize = 1 << 15;
 /// Default bootstrap replicates.
-pub const DEFAULT_REPLICATES: usize = 400;
+pub(crate) const DEFAULT_REPLICATES: usize = 400;
 
 /// Check a ranking's settings against the study.
-pub fn check_rank(study: &Study, rank: &RankOptions) -> Result<(), Error> {
+pub(crate) fn check_rank(study: &Study, rank: &RankOptions) -> Result<(), Error> {
     let k = sensitivity::factors(study).len();
     let bad = |message: String, example: &str| -> Error {
         InputError {
@@ -177,7 +177,7 @@ pub fn check_rank(study: &Study, rank: &RankOptions) -> Result<(), Error> {
 }
 
 /// An ordinary run that keeps its inputs, then the sensitivity design, then the ranking.
-pub fn rank_study(
+pub(crate) fn rank_study(
     study: &Study,
     options: &RunOptions,
     rank: &RankOptions,
@@ -217,7 +217,7 @@ pub fn rank_study(
 /// the memory budget, keeps only the tails of its values (`engine::streaming`: one pass, or
 /// two over the same streams beyond the budget), with the same results; it then returns no
 /// samples.
-pub fn run_study(
+pub(crate) fn run_study(
     study: &Study,
     options: &RunOptions,
 ) -> Result<(Findings, Option<Samples>), Error> {
@@ -278,7 +278,7 @@ pub fn run_study(
 
 /// Run the study and then every point of its `[sweep]` (the same seed and trials throughout);
 /// the pool and the parsed study are reused, nothing is read again.
-pub fn sweep_study(
+pub(crate) fn sweep_study(
     study: &Study,
     options: &RunOptions,
 ) -> Result<(Findings, Option<Samples>), Error> {
@@ -314,7 +314,7 @@ pub fn sweep_study(
 
 /// Compare designs on one measurand with the same seed and trials (a paired comparison): the
 /// first design's seed and trials (after its adaptive run, if it has one) apply to all.
-pub fn compare_designs(
+pub(crate) fn compare_designs(
     designs: &[(String, Study)],
     options: &RunOptions,
     measurand: Option<&str>,
@@ -371,7 +371,7 @@ pub fn compare_designs(
 /// budget is first order; the model may not be linear), the plan is made again for a target
 /// tightened by the ratio of target to achieved, which may improve more inputs, at most four
 /// times.
-pub fn plan_study(
+pub(crate) fn plan_study(
     study: &Study,
     options: &RunOptions,
     spec: TargetSpec,

@@ -14,7 +14,7 @@ use crate::units::{Dimension, parse_quantity};
 use std::path::PathBuf;
 
 /// An error in a command-line value (exit code 2), naming the option and a valid example.
-pub fn command_line_error(key: &str, message: impl Into<String>, example: &str) -> Error {
+pub(crate) fn command_line_error(key: &str, message: impl Into<String>, example: &str) -> Error {
     InputError {
         file: "command line".into(),
         location: None,
@@ -27,81 +27,81 @@ pub fn command_line_error(key: &str, message: impl Into<String>, example: &str) 
 
 /// The scenario and how to run it.
 #[derive(clap::Args, Clone, Debug)]
-pub struct StudyArgs {
+pub(crate) struct StudyArgs {
     /// The scenario file (TOML).
-    pub file: PathBuf,
+    pub(crate) file: PathBuf,
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
-    pub threads: Option<usize>,
+    pub(crate) threads: Option<usize>,
     /// Override the scenario's number of trials M.
     #[arg(long)]
-    pub trials: Option<u64>,
+    pub(crate) trials: Option<u64>,
     /// Override the scenario's seed.
     #[arg(long)]
-    pub seed: Option<u64>,
+    pub(crate) seed: Option<u64>,
     /// Most memory the run may hold, e.g. 8GiB (default: half of this machine's memory); a
     /// plain run beyond it is made in more passes, with the same results.
     #[arg(long)]
-    pub memory_budget: Option<String>,
+    pub(crate) memory_budget: Option<String>,
 }
 
 /// Where and how the report goes.
 #[derive(clap::Args, Clone, Debug)]
-pub struct OutputArgs {
+pub(crate) struct OutputArgs {
     /// Output format.
     #[arg(long, value_enum, default_value = "text")]
-    pub format: Format,
+    pub(crate) format: Format,
     /// Write the report to this file instead of stdout.
     #[arg(short, long)]
-    pub output: Option<PathBuf>,
+    pub(crate) output: Option<PathBuf>,
     /// Write the figures into this folder.
     #[arg(long)]
-    pub plots: Option<PathBuf>,
+    pub(crate) plots: Option<PathBuf>,
     /// Format of the figures.
     #[arg(long, value_enum, default_value = "svg")]
-    pub plot_format: PlotFormat,
+    pub(crate) plot_format: PlotFormat,
     /// Replace existing output files.
     #[arg(long)]
-    pub force: bool,
+    pub(crate) force: bool,
     /// Print no warnings on stderr.
     #[arg(short, long)]
-    pub quiet: bool,
+    pub(crate) quiet: bool,
 }
 
 /// `radforce run`.
 #[derive(clap::Args, Clone, Debug)]
 pub struct RunArgs {
     #[command(flatten)]
-    pub study: StudyArgs,
+    pub(crate) study: StudyArgs,
     #[command(flatten)]
-    pub out: OutputArgs,
+    pub(crate) out: OutputArgs,
     /// Write the trials (inputs and measurands) to this CSV file.
     #[arg(long)]
-    pub samples: Option<PathBuf>,
+    pub(crate) samples: Option<PathBuf>,
     /// Write at most this many trials to --samples, evenly thinned.
     #[arg(long, requires = "samples")]
-    pub samples_max: Option<usize>,
+    pub(crate) samples_max: Option<usize>,
     /// Run only shard K of N (chunks k with k mod N = K) and write a partial result to --output.
     #[arg(long, value_name = "K/N")]
-    pub shard: Option<String>,
+    pub(crate) shard: Option<String>,
 }
 
 /// `radforce export`.
 #[derive(clap::Args, Clone, Debug)]
 pub struct ExportArgs {
     #[command(flatten)]
-    pub study: StudyArgs,
+    pub(crate) study: StudyArgs,
     /// The folder to write the bundle into (created if missing).
-    pub dir: PathBuf,
+    pub(crate) dir: PathBuf,
     /// Trials written to samples.csv, evenly thinned.
     #[arg(long, default_value_t = crate::report::bundle::DEFAULT_SAMPLE_ROWS)]
-    pub samples_max: usize,
+    pub(crate) samples_max: usize,
     /// Replace existing files in the folder.
     #[arg(long)]
-    pub force: bool,
+    pub(crate) force: bool,
     /// Print no warnings and no progress on stderr.
     #[arg(short, long)]
-    pub quiet: bool,
+    pub(crate) quiet: bool,
 }
 
 /// `radforce merge`.
@@ -109,27 +109,27 @@ pub struct ExportArgs {
 pub struct MergeArgs {
     /// The partial results of every shard of one run.
     #[arg(required = true)]
-    pub parts: Vec<PathBuf>,
+    pub(crate) parts: Vec<PathBuf>,
     #[command(flatten)]
-    pub out: OutputArgs,
+    pub(crate) out: OutputArgs,
 }
 
 /// `radforce rank`.
 #[derive(clap::Args, Clone, Debug)]
 pub struct RankArgs {
     #[command(flatten)]
-    pub study: StudyArgs,
+    pub(crate) study: StudyArgs,
     #[command(flatten)]
-    pub out: OutputArgs,
+    pub(crate) out: OutputArgs,
     /// Base rows N of the sensitivity design (N (k + 2) model runs).
     #[arg(long, default_value_t = super::DEFAULT_BASE_ROWS)]
-    pub base_trials: usize,
+    pub(crate) base_trials: usize,
     /// How the base samples are drawn.
     #[arg(long, value_enum, default_value = "random")]
-    pub sampler: BaseSampler,
+    pub(crate) sampler: BaseSampler,
     /// Bootstrap resamples for the confidence intervals.
     #[arg(long, default_value_t = super::DEFAULT_REPLICATES)]
-    pub replicates: usize,
+    pub(crate) replicates: usize,
 }
 
 /// `radforce compare`.
@@ -137,29 +137,29 @@ pub struct RankArgs {
 pub struct CompareArgs {
     /// Scenario files; a file with [variants.NAME] tables adds one design per variant.
     #[arg(required = true)]
-    pub files: Vec<PathBuf>,
+    pub(crate) files: Vec<PathBuf>,
     /// The measurand to compare (default: the first of the first design).
     #[arg(long)]
-    pub measurand: Option<String>,
+    pub(crate) measurand: Option<String>,
     /// Worker threads (default: all cores).
     #[arg(long)]
-    pub threads: Option<usize>,
+    pub(crate) threads: Option<usize>,
     /// Trials for every design (default: the first design's).
     #[arg(long)]
-    pub trials: Option<u64>,
+    pub(crate) trials: Option<u64>,
     /// Seed for every design (default: the first design's).
     #[arg(long)]
-    pub seed: Option<u64>,
+    pub(crate) seed: Option<u64>,
     /// Most memory the run of one design may hold, e.g. 8GiB.
     #[arg(long)]
-    pub memory_budget: Option<String>,
+    pub(crate) memory_budget: Option<String>,
     #[command(flatten)]
-    pub out: OutputArgs,
+    pub(crate) out: OutputArgs,
 }
 
 /// Whether a plan's target is an expanded or a standard uncertainty.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
-pub enum UncertaintyKind {
+pub(crate) enum UncertaintyKind {
     /// The expanded uncertainty at the scenario's coverage probability.
     Expanded,
     /// The standard uncertainty.
@@ -170,22 +170,22 @@ pub enum UncertaintyKind {
 #[derive(clap::Args, Clone, Debug)]
 pub struct PlanArgs {
     #[command(flatten)]
-    pub study: StudyArgs,
+    pub(crate) study: StudyArgs,
     #[command(flatten)]
-    pub out: OutputArgs,
+    pub(crate) out: OutputArgs,
     /// The target: relative ("0.1%", "500 ppm") or absolute in the measurand's unit ("0.02 W").
     #[arg(long)]
-    pub target: String,
+    pub(crate) target: String,
     /// Whether the target is an expanded or a standard uncertainty.
     #[arg(long, value_enum, default_value = "expanded")]
-    pub uncertainty: UncertaintyKind,
+    pub(crate) uncertainty: UncertaintyKind,
     /// The measurand (required when the scenario has several).
     #[arg(long)]
-    pub measurand: Option<String>,
+    pub(crate) measurand: Option<String>,
 }
 
 /// Read `--memory-budget` (default: half of this machine's memory).
-pub fn parse_budget(text: &Option<String>) -> Result<u64, Error> {
+pub(crate) fn parse_budget(text: &Option<String>) -> Result<u64, Error> {
     match text {
         Some(text) => engine::memory::parse_bytes(text).ok_or_else(|| {
             command_line_error(
@@ -199,7 +199,7 @@ pub fn parse_budget(text: &Option<String>) -> Result<u64, Error> {
 }
 
 /// Apply `--trials` and `--seed` to a study (with the checks the scenario's own values get).
-pub fn override_study(
+pub(crate) fn override_study(
     study: &mut Study,
     trials: Option<u64>,
     seed: Option<u64>,
@@ -234,7 +234,7 @@ pub fn override_study(
 }
 
 /// Refuse `--threads 0`.
-pub fn check_threads(threads: Option<usize>) -> Result<(), Error> {
+pub(crate) fn check_threads(threads: Option<usize>) -> Result<(), Error> {
     if let Some(0) = threads {
         return Err(command_line_error(
             "--threads",
@@ -246,7 +246,7 @@ pub fn check_threads(threads: Option<usize>) -> Result<(), Error> {
 }
 
 /// Load the scenario and apply the command-line overrides.
-pub fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
+pub(crate) fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
     let mut study = scenario::load_file(&args.file)?;
     override_study(&mut study, args.trials, args.seed)?;
     check_threads(args.threads)?;
@@ -258,7 +258,7 @@ pub fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
 }
 
 /// The measurand `--measurand` names, or the only (or the chain's first) one.
-pub fn measurand_index(study: &Study, name: Option<&str>) -> Result<usize, Error> {
+pub(crate) fn measurand_index(study: &Study, name: Option<&str>) -> Result<usize, Error> {
     match name {
         Some(name) => study
             .measurands
@@ -285,7 +285,7 @@ pub fn measurand_index(study: &Study, name: Option<&str>) -> Result<usize, Error
 
 /// Read `--target`: a percentage or ppm is relative; a quantity needs the measurand's dimension;
 /// a bare number is in the measurand's reporting unit.
-pub fn parse_target(
+pub(crate) fn parse_target(
     study: &Study,
     m: usize,
     text: &str,
@@ -334,7 +334,7 @@ pub fn parse_target(
 }
 
 /// Read `--shard K/N`.
-pub fn parse_shard(text: &str) -> Result<(u64, u64), Error> {
+pub(crate) fn parse_shard(text: &str) -> Result<(u64, u64), Error> {
     let example = "--shard 0/3";
     let parsed = text
         .split_once('/')

@@ -7,7 +7,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 /// The temporary name used while `path` is written.
-pub fn temporary_path(path: &Path) -> PathBuf {
+pub(crate) fn temporary_path(path: &Path) -> PathBuf {
     let name = path
         .file_name()
         .map_or_else(|| "output".into(), |n| n.to_string_lossy().into_owned());
@@ -15,7 +15,7 @@ pub fn temporary_path(path: &Path) -> PathBuf {
 }
 
 /// Refuse to replace an existing file unless `force`.
-pub fn check_writable(path: &Path, force: bool) -> Result<(), Error> {
+pub(crate) fn check_writable(path: &Path, force: bool) -> Result<(), Error> {
     if path.is_dir() {
         return Err(InputError::file(
             path.display().to_string(),
@@ -36,7 +36,7 @@ pub fn check_writable(path: &Path, force: bool) -> Result<(), Error> {
 }
 
 /// Write `bytes` to `path` through a temporary file and a rename.
-pub fn write_atomic(path: &Path, bytes: &[u8], force: bool) -> Result<(), Error> {
+pub(crate) fn write_atomic(path: &Path, bytes: &[u8], force: bool) -> Result<(), Error> {
     check_writable(path, force)?;
     let tmp = temporary_path(path);
     let fail = |e: std::io::Error| -> Error {

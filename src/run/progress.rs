@@ -10,14 +10,14 @@ use std::thread::JoinHandle;
 use std::time::{Duration, Instant};
 
 /// A progress bar running on its own thread until [`Progress::finish`].
-pub struct Progress {
+pub(crate) struct Progress {
     stop: Arc<AtomicBool>,
     handle: Option<JoinHandle<()>>,
 }
 
 impl Progress {
     /// Start watching the trial counter (`expected`: the trials the run will make, if known).
-    pub fn start(quiet: bool, expected: Option<u64>) -> Progress {
+    pub(crate) fn start(quiet: bool, expected: Option<u64>) -> Progress {
         let stop = Arc::new(AtomicBool::new(false));
         let handle = (!quiet).then(|| {
             let stop = stop.clone();
@@ -27,7 +27,7 @@ impl Progress {
     }
 
     /// Stop and clear the bar.
-    pub fn finish(mut self) {
+    pub(crate) fn finish(mut self) {
         self.stop.store(true, Ordering::Relaxed);
         if let Some(h) = self.handle.take() {
             let _ = h.join();

@@ -28,23 +28,23 @@ const MAGIC: &[u8] = b"radforce-part 1\n";
 
 /// A partial result read back.
 #[derive(Clone, Debug)]
-pub struct Part {
+pub(crate) struct Part {
     /// The scenario text.
-    pub scenario_text: String,
+    pub(crate) scenario_text: String,
     /// The scenario file as named in reports.
-    pub scenario_file: String,
+    pub(crate) scenario_file: String,
     /// Trials of the whole run.
-    pub trials: u64,
+    pub(crate) trials: u64,
     /// Seed.
-    pub seed: u64,
+    pub(crate) seed: u64,
     /// This shard, K.
-    pub shard: u64,
+    pub(crate) shard: u64,
     /// Of N shards.
-    pub shards: u64,
+    pub(crate) shards: u64,
     /// The chunk summaries of the shard.
-    pub chunks: Vec<ChunkSummary>,
+    pub(crate) chunks: Vec<ChunkSummary>,
     /// Per measurand: (low tail, high tail).
-    pub tails: Vec<(Vec<f64>, Vec<f64>)>,
+    pub(crate) tails: Vec<(Vec<f64>, Vec<f64>)>,
 }
 
 /// The header of a partial result (JSON, compact): the run, the shard and its chunk summaries.
@@ -94,7 +94,7 @@ fn co_read(c: &CoMomentsJson) -> CoMoments {
 }
 
 /// The bytes of a shard's partial result.
-pub fn write_part(
+pub(crate) fn write_part(
     study: &Study,
     scenario_text: &str,
     samples: &Samples,
@@ -150,7 +150,7 @@ fn bad(file: &str, message: impl Into<String>) -> Error {
 }
 
 /// Read a partial result; `file` names it in messages.
-pub fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
+pub(crate) fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
     let broken = || bad(file, "is not a radforce partial result (or is damaged)");
     let rest = bytes.strip_prefix(MAGIC).ok_or_else(|| {
         bad(
@@ -223,7 +223,7 @@ pub fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
 
 /// Check that the parts are the N shards of one run, load the study from the scenario text they
 /// carry, and combine them into the Monte Carlo result of the whole run.
-pub fn merge_parts(parts: &[(String, Part)]) -> Result<(Study, MonteCarlo), Error> {
+pub(crate) fn merge_parts(parts: &[(String, Part)]) -> Result<(Study, MonteCarlo), Error> {
     let (first_file, first) = parts
         .first()
         .ok_or_else(|| bad("command line", "no partial results to merge"))?;
@@ -298,7 +298,11 @@ pub fn merge_parts(parts: &[(String, Part)]) -> Result<(Study, MonteCarlo), Erro
 
 /// `radforce run FILE --shard K/N -o PART`: make only the shard's chunks and write the partial
 /// result.
-pub fn run_shard(args: &RunArgs, shard: &str, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
+pub(crate) fn run_shard(
+    args: &RunArgs,
+    shard: &str,
+    warn: &dyn Fn(&str),
+) -> Result<Vec<u8>, Error> {
     let (k, n) = parse_shard(shard)?;
     let (study, options) = load(&args.study)?;
     if study.adaptive.is_some() {

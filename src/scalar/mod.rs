@@ -155,4 +155,4 @@ impl Scalar for f64 {
 }
 
 mod taylor;
-pub use taylor::Taylor2;
+pub(crate) use taylor::Taylor2;

@@ -65,15 +65,15 @@ const PRODUCT: ([(u8, u8, u8); 100], usize) = product_terms();
 
 /// A bivariate Taylor polynomial of total degree 3 (see the module documentation).
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Taylor2 {
+pub(crate) struct Taylor2 {
     /// Coefficients in the order (0,0), (1,0), (0,1), (2,0), (1,1), (0,2), (3,0), (2,1), (1,2),
     /// (0,3) of (power of s, power of t).
-    pub c: [f64; 10],
+    pub(crate) c: [f64; 10],
 }
 
 impl Taylor2 {
     /// x + s (direction `first`) + t (direction `second`), either or both may be set.
-    pub fn seeded(x: f64, first: bool, second: bool) -> Self {
+    pub(crate) fn seeded(x: f64, first: bool, second: bool) -> Self {
         let mut c = [0.0; 10];
         c[0] = x;
         if first {
@@ -85,33 +85,28 @@ impl Taylor2 {
         Taylor2 { c }
     }
 
-    /// The coefficient of s^a t^b.
-    pub fn coefficient(&self, a: usize, b: usize) -> f64 {
-        self.c[idx(a, b)]
-    }
-
     /// df/dxi (direction s).
-    pub fn d_s(&self) -> f64 {
+    pub(crate) fn d_s(&self) -> f64 {
         self.c[1]
     }
 
     /// df/dxj (direction t).
-    pub fn d_t(&self) -> f64 {
+    pub(crate) fn d_t(&self) -> f64 {
         self.c[2]
     }
 
     /// d2f / dxi dxj.
-    pub fn d_st(&self) -> f64 {
+    pub(crate) fn d_st(&self) -> f64 {
         self.c[4]
     }
 
     /// d3f / dxi dxj^2.
-    pub fn d_stt(&self) -> f64 {
+    pub(crate) fn d_stt(&self) -> f64 {
         2.0 * self.c[8]
     }
 
     /// d3f / dxi^2 dxj.
-    pub fn d_sst(&self) -> f64 {
+    pub(crate) fn d_sst(&self) -> f64 {
         2.0 * self.c[7]
     }
 

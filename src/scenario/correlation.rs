@@ -13,35 +13,35 @@ use toml::de::DeValue;
 #[derive(Clone, Debug, PartialEq)]
 pub struct CorrelatedPair {
     /// Index of the first input.
-    pub a: usize,
+    pub(crate) a: usize,
     /// Index of the second input.
-    pub b: usize,
+    pub(crate) b: usize,
     /// Correlation coefficient r in [-1, 1].
-    pub coefficient: f64,
+    pub(crate) coefficient: f64,
 }
 
 /// Inputs linked by correlations, drawn together.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CorrelatedGroup {
     /// Input indices, ascending.
-    pub members: Vec<usize>,
+    pub(crate) members: Vec<usize>,
     /// Lower-triangular Cholesky factor L of the group's correlation matrix (R = L L^T),
     /// row-major, `members.len()` squared entries.
-    pub cholesky: Vec<f64>,
+    pub(crate) cholesky: Vec<f64>,
 }
 
 /// All correlations of a study.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct Correlations {
     /// Pairs in file order.
-    pub pairs: Vec<CorrelatedPair>,
+    pub(crate) pairs: Vec<CorrelatedPair>,
     /// Connected groups of correlated inputs.
-    pub groups: Vec<CorrelatedGroup>,
+    pub(crate) groups: Vec<CorrelatedGroup>,
 }
 
 impl Correlations {
     /// The correlation coefficient between inputs i and j (1 on the diagonal, 0 when unrelated).
-    pub fn coefficient(&self, i: usize, j: usize) -> f64 {
+    pub(crate) fn coefficient(&self, i: usize, j: usize) -> f64 {
         if i == j {
             return 1.0;
         }
@@ -52,12 +52,12 @@ impl Correlations {
     }
 
     /// Whether any inputs are correlated.
-    pub fn is_empty(&self) -> bool {
+    pub(crate) fn is_empty(&self) -> bool {
         self.pairs.is_empty()
     }
 
     /// The group an input belongs to.
-    pub fn group_of(&self, i: usize) -> Option<usize> {
+    pub(crate) fn group_of(&self, i: usize) -> Option<usize> {
         self.groups.iter().position(|g| g.members.contains(&i))
     }
 }
@@ -66,7 +66,7 @@ const EXAMPLE: &str =
     "[[correlation]]\nbetween = [\"lever_arm\", \"scale_distance\"]\ncoefficient = 0.3";
 
 /// Read the `correlation` array of tables.
-pub fn read_correlations(
+pub(crate) fn read_correlations(
     entry: &Entry<'_, '_>,
     inputs: &[InputQuantity],
 ) -> Result<Correlations, InputError> {

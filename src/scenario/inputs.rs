@@ -25,18 +25,18 @@ pub struct InputQuantity {
     /// Its name in the scenario.
     pub name: String,
     /// Constant or distribution.
-    pub law: Law,
+    pub(crate) law: Law,
     /// Degrees of freedom of its standard uncertainty for the law of propagation: those of a
     /// t or readings distribution, or a Type B value from the `dof` key; `None` means infinite.
-    pub dof: Option<f64>,
+    pub(crate) dof: Option<f64>,
     /// Its dimension, when known (chain inputs, or from the units written).
-    pub dimension: Option<Dimension>,
+    pub(crate) dimension: Option<Dimension>,
     /// The unit the scenario wrote it in, used to show it.
-    pub shown_unit: DisplayUnit,
+    pub(crate) shown_unit: DisplayUnit,
     /// Free text from the `note` key.
-    pub note: Option<String>,
+    pub(crate) note: Option<String>,
     /// Where its table is in the file.
-    pub span: Range<usize>,
+    pub(crate) span: Range<usize>,
 }
 
 impl InputQuantity {
@@ -49,7 +49,7 @@ impl InputQuantity {
     }
 
     /// The standard deviation of its distribution (JCGM 101 view); 0 for a constant.
-    pub fn standard_deviation(&self) -> f64 {
+    pub(crate) fn standard_deviation(&self) -> f64 {
         match &self.law {
             Law::Constant(_) => 0.0,
             Law::Distributed(d) => d.standard_deviation(),
@@ -59,7 +59,7 @@ impl InputQuantity {
     /// The standard uncertainty the law of propagation uses (JCGM 100): the distribution's
     /// standard deviation, except for t and readings, where it is the scale s/sqrt(n) that goes
     /// with their degrees of freedom (JCGM 100 4.2.3 and G.3).
-    pub fn gum_standard_uncertainty(&self) -> f64 {
+    pub(crate) fn gum_standard_uncertainty(&self) -> f64 {
         match &self.law {
             Law::Constant(_) => 0.0,
             Law::Distributed(Distribution::T(t)) => t.scale(),
@@ -76,7 +76,7 @@ impl InputQuantity {
     }
 
     /// Whether the quantity varies from trial to trial.
-    pub fn is_constant(&self) -> bool {
+    pub(crate) fn is_constant(&self) -> bool {
         matches!(self.law, Law::Constant(_))
     }
 }
@@ -187,7 +187,7 @@ fn param_error(table: &Table<'_, '_>, e: ParameterError, example: &str) -> Input
 
 /// Read `[inputs.NAME]`. `chain_input` is the chain's description of this input, when the
 /// chain takes it (then its dimension and physical domain are enforced).
-pub fn read_input(
+pub(crate) fn read_input(
     table: &Table<'_, '_>,
     name: &str,
     chain_input: Option<&ChainInput>,
@@ -421,7 +421,7 @@ pub(crate) fn check_domain(
 
 /// The JSON Schema of one input table: a constant, or one object per distribution family (its
 /// name or alias in `dist`, its parameters required).
-pub fn input_schema() -> serde_json::Value {
+pub(crate) fn input_schema() -> serde_json::Value {
     use serde_json::json;
     let quantity = json!({"$ref": "#/$defs/quantity"});
     let mut variants = vec![json!({

@@ -12,7 +12,7 @@ mod inputs;
 mod load;
 mod measurands;
 mod noise;
-pub mod schema;
+pub(crate) mod schema;
 mod source;
 mod study;
 mod sweep;
@@ -29,4 +29,4 @@ pub use study::{
     Adaptive, DEFAULT_ADAPTIVE_MAX_TRIALS, DEFAULT_TRIALS, MAX_INPUTS, MAX_SCENARIO_BYTES,
     MAX_TRIALS, MIN_TRIALS, Measurand, Study, Sweep, adaptive_batch_trials,
 };
-pub use variants::{load_designs, load_variants_str};
+pub(crate) use variants::load_designs;

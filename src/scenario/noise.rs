@@ -30,11 +30,11 @@ pub struct NoiseFloor {
     /// Total force noise density, N/sqrt(Hz).
     pub density: f64,
     /// Averaging time t, s.
-    pub averaging_time: f64,
+    pub(crate) averaging_time: f64,
     /// Force resolution sigma_F = sqrt(S_F / (2 t)), N: the standard deviation of `noise_force`.
     pub resolution: f64,
     /// The radiation force at the estimates, N.
-    pub force: f64,
+    pub(crate) force: f64,
     /// The target force resolution, N.
     pub target_resolution: f64,
     /// The averaging time that reaches it, s.

@@ -8,7 +8,7 @@ use crate::model::ChainKind;
 use serde_json::{Value, json};
 
 /// The schema.
-pub fn scenario_schema() -> Value {
+pub(crate) fn scenario_schema() -> Value {
     let chains: Vec<&str> = ChainKind::ALL.iter().map(|c| c.spec().name).collect();
     let quantity = json!({"$ref": "#/$defs/quantity"});
     let top = json!({

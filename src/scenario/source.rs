@@ -6,14 +6,14 @@ use std::ops::Range;
 /// A scenario file's name and text.
 pub struct Source<'a> {
     /// How the file is named in messages.
-    pub file: &'a str,
+    pub(crate) file: &'a str,
     /// Its text.
-    pub text: &'a str,
+    pub(crate) text: &'a str,
 }
 
 impl<'a> Source<'a> {
     /// Line, column and line text of a byte span.
-    pub fn locate(&self, span: &Range<usize>) -> Location {
+    pub(crate) fn locate(&self, span: &Range<usize>) -> Location {
         let start = span.start.min(self.text.len());
         let start = (0..=start)
             .rev()
@@ -41,7 +41,7 @@ impl<'a> Source<'a> {
     }
 
     /// An error at a span, about a key, with an example of a valid value.
-    pub fn error(
+    pub(crate) fn error(
         &self,
         span: &Range<usize>,
         key: &str,
@@ -88,7 +88,7 @@ pub fn nearest<'c>(word: &str, candidates: impl IntoIterator<Item = &'c str>) ->
 }
 
 /// " (did you mean `x`?)" or "".
-pub fn suggestion<'c>(word: &str, candidates: impl IntoIterator<Item = &'c str>) -> String {
+pub(crate) fn suggestion<'c>(word: &str, candidates: impl IntoIterator<Item = &'c str>) -> String {
     nearest(word, candidates).map_or(String::new(), |n| format!(" (did you mean `{n}`?)"))
 }
 

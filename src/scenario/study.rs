@@ -22,69 +22,69 @@ pub struct Measurand {
     /// Its name.
     pub name: String,
     /// Its dimension, when known (chain measurands).
-    pub dimension: Option<Dimension>,
+    pub(crate) dimension: Option<Dimension>,
     /// The unit the scenario asked to show it in (`unit = "mg"`), if any.
-    pub unit: Option<DisplayUnit>,
+    pub(crate) unit: Option<DisplayUnit>,
     /// The formula text, for formula measurands.
-    pub formula: Option<String>,
+    pub(crate) formula: Option<String>,
     /// What it is.
-    pub description: String,
+    pub(crate) description: String,
 }
 
 /// A validated scenario, ready to run.
 #[derive(Clone, Debug)]
 pub struct Study {
     /// The scenario file, as named in messages.
-    pub file: String,
+    pub(crate) file: String,
     /// Its title.
-    pub title: String,
+    pub(crate) title: String,
     /// Number of Monte Carlo trials M.
-    pub trials: u64,
+    pub(crate) trials: u64,
     /// Seed of the random streams.
     pub seed: u64,
     /// Coverage probability p.
-    pub coverage: f64,
+    pub(crate) coverage: f64,
     /// Significant digits `ndig` for the numerical tolerance (JCGM 101 7.9.2).
-    pub digits: u32,
+    pub(crate) digits: u32,
     /// Whether the study involves a laser (the report then carries the laser caution).
-    pub laser: bool,
+    pub(crate) laser: bool,
     /// Input quantities, in file order (their column order).
     pub inputs: Vec<InputQuantity>,
     /// Measurands in report order: chain measurands first, then formulas in file order.
     pub measurands: Vec<Measurand>,
     /// The built-in chain, if any.
-    pub chain: Option<ChainKind>,
+    pub(crate) chain: Option<ChainKind>,
     /// The compiled model.
     pub model: Model,
     /// Correlated inputs.
-    pub correlations: Correlations,
+    pub(crate) correlations: Correlations,
     /// The adaptive procedure of JCGM 101 7.9, when asked for (then `trials` is the batch size).
     pub adaptive: Option<Adaptive>,
     /// The noise floor, when `[noise]` asks for one (then `noise_force` is among the inputs).
     pub noise: Option<NoiseFloor>,
     /// A sweep of one input, when `[sweep]` asks for one.
-    pub sweep: Option<Sweep>,
+    pub(crate) sweep: Option<Sweep>,
     /// Names of the `[variants.NAME]` of the file (compared by `radforce compare`).
-    pub variants: Vec<String>,
+    pub(crate) variants: Vec<String>,
     /// Things worth knowing that do not stop the run.
-    pub warnings: Vec<String>,
+    pub(crate) warnings: Vec<String>,
 }
 
 /// A sweep of one input quantity over a range of estimates, each point a full run.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Sweep {
     /// The input swept.
-    pub input: usize,
+    pub(crate) input: usize,
     /// The estimates it takes, SI.
-    pub values: Vec<f64>,
+    pub(crate) values: Vec<f64>,
     /// The measurand followed.
-    pub measurand: usize,
+    pub(crate) measurand: usize,
 }
 
 impl Study {
     /// The study with input `i` moved to the estimate `value` (a constant takes the value; a
     /// distribution is moved, see `Distribution::with_mean`).
-    pub fn with_input_estimate(
+    pub(crate) fn with_input_estimate(
         &self,
         i: usize,
         value: f64,
@@ -99,7 +99,7 @@ impl Study {
     }
 
     /// The measurands' names, comma-separated, for messages that list the valid ones.
-    pub fn measurand_names(&self) -> String {
+    pub(crate) fn measurand_names(&self) -> String {
         self.measurands
             .iter()
             .map(|x| x.name.as_str())
@@ -112,9 +112,9 @@ impl Study {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Adaptive {
     /// Significant digits `ndig` the results must be stable to.
-    pub digits: u32,
+    pub(crate) digits: u32,
     /// Most trials before giving up.
-    pub max_trials: u64,
+    pub(crate) max_trials: u64,
 }
 
 /// Batch size of the adaptive procedure: M = max(J, 10^4) with J the smallest whole number
@@ -126,7 +126,7 @@ pub fn adaptive_batch_trials(coverage: f64) -> u64 {
 
 impl Study {
     /// The factor from SI to the unit a measurand is reported in (its `unit`, else 1).
-    pub fn reporting_factor(&self, measurand: usize) -> f64 {
+    pub(crate) fn reporting_factor(&self, measurand: usize) -> f64 {
         self.measurands[measurand]
             .unit
             .as_ref()

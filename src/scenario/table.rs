@@ -9,34 +9,34 @@ use toml::de::{DeTable, DeValue};
 
 /// A TOML table with where it is and its dotted path.
 #[derive(Clone)]
-pub struct Table<'a, 'i> {
+pub(crate) struct Table<'a, 'i> {
     /// The file.
-    pub src: &'a Source<'a>,
+    pub(crate) src: &'a Source<'a>,
     /// Dotted path (`inputs.reflectance`); empty for the top level.
-    pub path: String,
+    pub(crate) path: String,
     /// The entries.
-    pub map: &'a DeTable<'i>,
+    pub(crate) map: &'a DeTable<'i>,
     /// The table's span (its header, for a `[table]`).
-    pub span: Range<usize>,
+    pub(crate) span: Range<usize>,
 }
 
 /// One key and its value.
 #[derive(Clone)]
-pub struct Entry<'a, 'i> {
+pub(crate) struct Entry<'a, 'i> {
     /// The file.
-    pub src: &'a Source<'a>,
+    pub(crate) src: &'a Source<'a>,
     /// The key.
-    pub key: &'a str,
+    pub(crate) key: &'a str,
     /// Dotted path of the key.
-    pub path: String,
+    pub(crate) path: String,
     /// The key's span.
-    pub key_span: Range<usize>,
+    pub(crate) key_span: Range<usize>,
     /// The value.
-    pub value: &'a Spanned<DeValue<'i>>,
+    pub(crate) value: &'a Spanned<DeValue<'i>>,
 }
 
 /// A short name for the type of a TOML value.
-pub fn type_name(v: &DeValue<'_>) -> &'static str {
+pub(crate) fn type_name(v: &DeValue<'_>) -> &'static str {
     match v {
         DeValue::String(_) => "a string",
         DeValue::Integer(_) => "an integer",
@@ -50,7 +50,7 @@ pub fn type_name(v: &DeValue<'_>) -> &'static str {
 
 impl<'a, 'i> Table<'a, 'i> {
     /// Dotted path of a key in this table.
-    pub fn key_path(&self, key: &str) -> String {
+    pub(crate) fn key_path(&self, key: &str) -> String {
         if self.path.is_empty() {
             key.to_string()
         } else {
@@ -59,7 +59,7 @@ impl<'a, 'i> Table<'a, 'i> {
     }
 
     /// All entries in file order.
-    pub fn entries(&self) -> Vec<Entry<'a, 'i>> {
+    pub(crate) fn entries(&self) -> Vec<Entry<'a, 'i>> {
         self.map
             .iter()
             .map(|(k, v)| Entry {
@@ -73,7 +73,7 @@ impl<'a, 'i> Table<'a, 'i> {
     }
 
     /// The entry for `key`, if present.
-    pub fn get(&self, key: &str) -> Option<Entry<'a, 'i>> {
+    pub(crate) fn get(&self, key: &str) -> Option<Entry<'a, 'i>> {
         self.map
             .iter()
             .find(|(k, _)| k.get_ref().as_ref() == key)
@@ -87,12 +87,16 @@ impl<'a, 'i> Table<'a, 'i> {
     }
 
     /// An error about the table itself.
-    pub fn error(&self, message: impl Into<String>, example: impl Into<String>) -> InputError {
+    pub(crate) fn error(
+        &self,
+        message: impl Into<String>,
+        example: impl Into<String>,
+    ) -> InputError {
         self.src.error(&self.span, &self.path, message, example)
     }
 
     /// Refuse keys not in `allowed`, suggesting the nearest valid one.
-    pub fn check_keys(&self, allowed: &[&str], example: &str) -> Result<(), InputError> {
+    pub(crate) fn check_keys(&self, allowed: &[&str], example: &str) -> Result<(), InputError> {
         for e in self.entries() {
             if !allowed.contains(&e.key) {
                 let where_ = if self.path.is_empty() {
@@ -117,7 +121,7 @@ impl<'a, 'i> Table<'a, 'i> {
     }
 
     /// A required entry.
-    pub fn require(&self, key: &str, example: &str) -> Result<Entry<'a, 'i>, InputError> {
+    pub(crate) fn require(&self, key: &str, example: &str) -> Result<Entry<'a, 'i>, InputError> {
         self.get(key).ok_or_else(|| {
             self.src.error(
                 &self.span,
@@ -138,12 +142,16 @@ impl<'a, 'i> Table<'a, 'i> {
 
 impl<'a, 'i> Entry<'a, 'i> {
     /// The value's span.
-    pub fn span(&self) -> Range<usize> {
+    pub(crate) fn span(&self) -> Range<usize> {
         self.value.span()
     }
 
     /// An error at the value.
-    pub fn error(&self, message: impl Into<String>, example: impl Into<String>) -> InputError {
+    pub(crate) fn error(
+        &self,
+        message: impl Into<String>,
+        example: impl Into<String>,
+    ) -> InputError {
         self.src
             .error(&self.value.span(), &self.path, message, example)
     }
@@ -159,7 +167,7 @@ impl<'a, 'i> Entry<'a, 'i> {
     }
 
     /// The value as a string.
-    pub fn string(&self, example: &str) -> Result<&'a str, InputError> {
+    pub(crate) fn string(&self, example: &str) -> Result<&'a str, InputError> {
         match self.value.get_ref() {
             DeValue::String(s) => Ok(s.as_ref()),
             _ => Err(self.wrong_type("a string", example)),
@@ -167,7 +175,7 @@ impl<'a, 'i> Entry<'a, 'i> {
     }
 
     /// The value as a table.
-    pub fn table(&self, example: &str) -> Result<Table<'a, 'i>, InputError> {
+    pub(crate) fn table(&self, example: &str) -> Result<Table<'a, 'i>, InputError> {
         match self.value.get_ref() {
             DeValue::Table(t) => Ok(Table {
                 src: self.src,
@@ -180,7 +188,7 @@ impl<'a, 'i> Entry<'a, 'i> {
     }
 
     /// The value as an array of values.
-    pub fn array(&self, example: &str) -> Result<&'a [Spanned<DeValue<'i>>], InputError> {
+    pub(crate) fn array(&self, example: &str) -> Result<&'a [Spanned<DeValue<'i>>], InputError> {
         match self.value.get_ref() {
             DeValue::Array(a) => Ok(&a[..]),
             _ => Err(self.wrong_type("an array", example)),
@@ -188,7 +196,7 @@ impl<'a, 'i> Entry<'a, 'i> {
     }
 
     /// The value as a boolean.
-    pub fn boolean(&self, example: &str) -> Result<bool, InputError> {
+    pub(crate) fn boolean(&self, example: &str) -> Result<bool, InputError> {
         match self.value.get_ref() {
             DeValue::Boolean(b) => Ok(*b),
             _ => Err(self.wrong_type("true or false", example)),
@@ -196,7 +204,7 @@ impl<'a, 'i> Entry<'a, 'i> {
     }
 
     /// The value as a whole number in [min, max]; integral floats such as 1e6 are accepted.
-    pub fn whole(&self, min: u64, max: u64, example: &str) -> Result<u64, InputError> {
+    pub(crate) fn whole(&self, min: u64, max: u64, example: &str) -> Result<u64, InputError> {
         let v: Option<f64> = match self.value.get_ref() {
             DeValue::Integer(i) => match i128::from_str_radix(i.as_str(), i.radix()) {
                 Ok(n) if n < min as i128 || n > max as i128 => {
@@ -227,13 +235,13 @@ impl<'a, 'i> Entry<'a, 'i> {
     }
 
     /// The value as a finite number (integer or float).
-    pub fn number(&self, example: &str) -> Result<f64, InputError> {
+    pub(crate) fn number(&self, example: &str) -> Result<f64, InputError> {
         number_value(self.value, &self.path, self.src, example)
     }
 }
 
 /// A TOML integer or float as f64; NaN and infinities are refused.
-pub fn number_value(
+pub(crate) fn number_value(
     v: &Spanned<DeValue<'_>>,
     path: &str,
     src: &Source<'_>,

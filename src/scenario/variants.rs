@@ -10,7 +10,7 @@ use toml::de::{DeTable, DeValue};
 
 /// Read a scenario file and its `[variants.NAME]`: the base study first, then one study per
 /// variant (each named by its key), all validated.
-pub fn load_designs(path: &Path) -> Result<Vec<(String, Study)>, InputError> {
+pub(crate) fn load_designs(path: &Path) -> Result<Vec<(String, Study)>, InputError> {
     let base = load_file(path)?;
     if base.variants.is_empty() {
         return Ok(vec![(base.title.clone(), base)]);
@@ -28,7 +28,10 @@ const VARIANT_EXAMPLE: &str = "[variants.heavier_bob]\ntitle = \"Heavier bob\"\n
 
 /// The variants of scenario text: each is the base scenario with its `model`, `noise`, `title`
 /// and the named input tables replaced (or added), and the inputs listed in `drop` removed.
-pub fn load_variants_str(text: &str, file: &str) -> Result<Vec<(String, Study)>, InputError> {
+pub(crate) fn load_variants_str(
+    text: &str,
+    file: &str,
+) -> Result<Vec<(String, Study)>, InputError> {
     let src = Source { file, text };
     let doc = DeTable::parse(text).map_err(|e| {
         src.error(

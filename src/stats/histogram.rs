@@ -5,22 +5,22 @@ use rayon::prelude::*;
 
 /// Counts of values in equal bins over [lo, hi], with the values below and above.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Histogram {
+pub(crate) struct Histogram {
     /// Lower edge of the first bin.
-    pub lo: f64,
+    pub(crate) lo: f64,
     /// Upper edge of the last bin.
-    pub hi: f64,
+    pub(crate) hi: f64,
     /// Count per bin.
-    pub counts: Vec<u64>,
+    pub(crate) counts: Vec<u64>,
     /// Values below `lo`.
-    pub below: u64,
+    pub(crate) below: u64,
     /// Values above `hi`.
-    pub above: u64,
+    pub(crate) above: u64,
 }
 
 impl Histogram {
     /// Count `values` into `bins` equal bins over [lo, hi].
-    pub fn of(values: &[f64], lo: f64, hi: f64, bins: usize) -> Histogram {
+    pub(crate) fn of(values: &[f64], lo: f64, hi: f64, bins: usize) -> Histogram {
         let width = (hi - lo) / bins as f64;
         let partial: Vec<(Vec<u64>, u64, u64)> = values
             .par_chunks(1 << 16)
@@ -59,17 +59,17 @@ impl Histogram {
     }
 
     /// Total number of values counted, including those outside.
-    pub fn total(&self) -> u64 {
+    pub(crate) fn total(&self) -> u64 {
         self.counts.iter().sum::<u64>() + self.below + self.above
     }
 
     /// Bin width.
-    pub fn width(&self) -> f64 {
+    pub(crate) fn width(&self) -> f64 {
         (self.hi - self.lo) / self.counts.len() as f64
     }
 
     /// (bin centre, probability density) per bin: count / (N width).
-    pub fn density(&self) -> Vec<(f64, f64)> {
+    pub(crate) fn density(&self) -> Vec<(f64, f64)> {
         let (n, w) = (self.total() as f64, self.width());
         self.counts
             .iter()
@@ -80,7 +80,7 @@ impl Histogram {
 
     /// (upper bin edge, fraction of values at or below it): the empirical distribution function
     /// at the bin edges, exact there.
-    pub fn distribution(&self) -> Vec<(f64, f64)> {
+    pub(crate) fn distribution(&self) -> Vec<(f64, f64)> {
         let (n, w) = (self.total() as f64, self.width());
         let mut acc = self.below;
         let mut out = vec![(self.lo, acc as f64 / n)];
@@ -95,7 +95,13 @@ impl Histogram {
 /// A Gaussian kernel density estimate at `points` equally spaced points over [lo, hi], from an
 /// evenly spaced subsample of at most 20 000 values, with Silverman's rule-of-thumb bandwidth
 /// 0.9 min(sd, IQR/1.34) n^(-1/5) (Silverman, Density Estimation, 1986, 3.4.2).
-pub fn kernel_density(values: &[f64], sd: f64, lo: f64, hi: f64, points: usize) -> Vec<(f64, f64)> {
+pub(crate) fn kernel_density(
+    values: &[f64],
+    sd: f64,
+    lo: f64,
+    hi: f64,
+    points: usize,
+) -> Vec<(f64, f64)> {
     let step = (values.len() / 20_000).max(1);
     let mut sub: Vec<f64> = values.iter().step_by(step).copied().collect();
     sub.sort_unstable_by(f64::total_cmp);

@@ -26,7 +26,7 @@ pub fn q_index(m: usize, p: f64) -> usize {
 }
 
 /// r of JCGM 101 7.7.2 (1-based) for the probabilistically symmetric interval.
-pub fn symmetric_r(m: usize, q: usize) -> usize {
+pub(crate) fn symmetric_r(m: usize, q: usize) -> usize {
     let outside = m - q;
     if outside.is_multiple_of(2) {
         outside / 2
@@ -50,7 +50,7 @@ const RADIX_FROM: usize = 1 << 12;
 /// sort at 5e5 values on this kind of machine. Short lists get an ordinary comparison, after
 /// which the zeros, the only finite values that compare equal with different bits, are put in
 /// sign order (1.7 times faster than comparing by `total_cmp` itself).
-pub fn sort_finite(values: &mut [f64]) {
+pub(crate) fn sort_finite(values: &mut [f64]) {
     if values.len() >= RADIX_FROM {
         radsort::sort(values);
     } else {
@@ -76,7 +76,7 @@ const SUBSAMPLE: usize = 1 << 16;
 
 /// The k smallest values and the k largest values, each sorted ascending: [`unsorted_tails`],
 /// then sorted.
-pub fn tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
+pub(crate) fn tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
     let (lo, hi) = unsorted_tails(values, k);
     rayon::join(
         || {
@@ -98,7 +98,7 @@ pub fn tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
 /// [`super::tail_buckets::intervals_from_unsorted_tails`] takes them. Thresholds come from an
 /// evenly spaced subsample (with a margin of six binomial standard deviations); if one was too
 /// tight the pass is repeated with a wider margin; small samples are sorted outright.
-pub fn unsorted_tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
+pub(crate) fn unsorted_tails(values: &[f64], k: usize) -> (Vec<f64>, Vec<f64>) {
     let m = values.len();
     let k = k.min(m);
     if k == 0 {
@@ -170,7 +170,12 @@ pub fn coverage_intervals(values: &[f64], p: f64) -> CoverageIntervals {
 /// Both coverage intervals from the two tails of the M values: `low` the M - q smallest, `high`
 /// the M - q largest, each sorted ascending (from memory, a streamed second pass, or merged
 /// shards: the result is the same).
-pub fn intervals_from_tails(low: &[f64], high: &[f64], m: usize, p: f64) -> CoverageIntervals {
+pub(crate) fn intervals_from_tails(
+    low: &[f64],
+    high: &[f64],
+    m: usize,
+    p: f64,
+) -> CoverageIntervals {
     let q = q_index(m, p);
     let k = m - q;
     // low[j] = y(j+1) and high[j] = y(q+j+1): the interval with r = j + 1.
@@ -193,7 +198,11 @@ pub fn intervals_from_tails(low: &[f64], high: &[f64], m: usize, p: f64) -> Cove
 
 /// The k smallest of several sorted-or-not candidate lists, sorted (for merging the tails of
 /// shards), and likewise the k largest.
-pub fn merge_tails(lows: Vec<Vec<f64>>, highs: Vec<Vec<f64>>, k: usize) -> (Vec<f64>, Vec<f64>) {
+pub(crate) fn merge_tails(
+    lows: Vec<Vec<f64>>,
+    highs: Vec<Vec<f64>>,
+    k: usize,
+) -> (Vec<f64>, Vec<f64>) {
     let mut lo: Vec<f64> = lows.into_iter().flatten().collect();
     let mut hi: Vec<f64> = highs.into_iter().flatten().collect();
     sort_finite(&mut lo);

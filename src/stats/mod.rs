@@ -13,4 +13,4 @@ pub mod tail_buckets;
 pub mod tolerance;
 
 pub use summary::{Summary, summarize};
-pub use tolerance::numerical_tolerance;
+pub(crate) use tolerance::numerical_tolerance;

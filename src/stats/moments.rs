@@ -9,16 +9,16 @@
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Moments {
     /// Number of values.
-    pub count: u64,
+    pub(crate) count: u64,
     /// Their mean.
     pub mean: f64,
     /// Sum of squared deviations from the mean.
-    pub m2: f64,
+    pub(crate) m2: f64,
 }
 
 impl Moments {
     /// No values.
-    pub const EMPTY: Moments = Moments {
+    pub(crate) const EMPTY: Moments = Moments {
         count: 0,
         mean: 0.0,
         m2: 0.0,
@@ -30,7 +30,7 @@ impl Moments {
     }
 
     /// Combine with the moments of the values that follow.
-    pub fn merge(&self, other: &Moments) -> Moments {
+    pub(crate) fn merge(&self, other: &Moments) -> Moments {
         if other.count == 0 {
             return *self;
         }
@@ -63,22 +63,22 @@ impl Moments {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct CoMoments {
     /// Number of pairs.
-    pub count: u64,
+    pub(crate) count: u64,
     /// Mean of x.
-    pub mean_x: f64,
+    pub(crate) mean_x: f64,
     /// Mean of y.
-    pub mean_y: f64,
+    pub(crate) mean_y: f64,
     /// Sum of squared deviations of x.
-    pub m2x: f64,
+    pub(crate) m2x: f64,
     /// Sum of squared deviations of y.
-    pub m2y: f64,
+    pub(crate) m2y: f64,
     /// Sum of products of deviations.
-    pub cxy: f64,
+    pub(crate) cxy: f64,
 }
 
 impl CoMoments {
     /// No pairs.
-    pub const EMPTY: CoMoments = CoMoments {
+    pub(crate) const EMPTY: CoMoments = CoMoments {
         count: 0,
         mean_x: 0.0,
         mean_y: 0.0,
@@ -88,13 +88,13 @@ impl CoMoments {
     };
 
     /// Joint moments of two equally long slices (see [`joint_moments`]).
-    pub fn of(x: &[f64], y: &[f64]) -> CoMoments {
+    pub(crate) fn of(x: &[f64], y: &[f64]) -> CoMoments {
         let n = x.len().min(y.len());
         joint_moments(&[&x[..n], &y[..n]]).1[0]
     }
 
     /// Combine with the joint moments of the pairs that follow.
-    pub fn merge(&self, o: &CoMoments) -> CoMoments {
+    pub(crate) fn merge(&self, o: &CoMoments) -> CoMoments {
         if o.count == 0 {
             return *self;
         }
@@ -116,7 +116,7 @@ impl CoMoments {
     }
 
     /// Pearson correlation coefficient; `None` when either column is constant.
-    pub fn correlation(&self) -> Option<f64> {
+    pub(crate) fn correlation(&self) -> Option<f64> {
         let d = (self.m2x * self.m2y).sqrt();
         (d > 0.0).then(|| (self.cxy / d).clamp(-1.0, 1.0))
     }

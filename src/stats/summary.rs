@@ -15,19 +15,19 @@ pub struct Summary {
     /// The shortest coverage interval (JCGM 101 7.7.3).
     pub shortest_interval: (f64, f64),
     /// Half the length of the symmetric interval.
-    pub expanded_uncertainty: f64,
+    pub(crate) expanded_uncertainty: f64,
     /// expanded_uncertainty / u(y); `None` when u(y) = 0.
-    pub coverage_factor: Option<f64>,
+    pub(crate) coverage_factor: Option<f64>,
 }
 
 impl Summary {
     /// u(y) / |y|, the relative standard uncertainty; `None` when the estimate is 0.
-    pub fn relative_standard_uncertainty(&self) -> Option<f64> {
+    pub(crate) fn relative_standard_uncertainty(&self) -> Option<f64> {
         (self.estimate != 0.0).then(|| self.standard_uncertainty / self.estimate.abs())
     }
 
     /// U / |y|, the relative expanded uncertainty; `None` when the estimate is 0.
-    pub fn relative_expanded_uncertainty(&self) -> Option<f64> {
+    pub(crate) fn relative_expanded_uncertainty(&self) -> Option<f64> {
         (self.estimate != 0.0).then(|| self.expanded_uncertainty / self.estimate.abs())
     }
 }
@@ -38,7 +38,7 @@ pub fn summarize(values: &[f64], moments: &Moments, coverage: f64) -> Summary {
 }
 
 /// The summary from the merged moments and the coverage intervals (however they were found).
-pub fn from_parts(moments: &Moments, ci: &CoverageIntervals) -> Summary {
+pub(crate) fn from_parts(moments: &Moments, ci: &CoverageIntervals) -> Summary {
     let u = moments.variance().sqrt();
     let expanded = 0.5 * (ci.symmetric.1 - ci.symmetric.0);
     Summary {

@@ -23,7 +23,7 @@ const PER_BUCKET: usize = 64;
 /// Memory the buckets take beside the tail values, in bytes per tail value: per bucket a count
 /// and two bounds (24 bytes), a first rank and a gathering offset (8 bytes each), for
 /// `PER_BUCKET` values. For memory budgets.
-pub const BYTES_PER_VALUE: f64 = 40.0 / PER_BUCKET as f64;
+pub(crate) const BYTES_PER_VALUE: f64 = 40.0 / PER_BUCKET as f64;
 
 /// One tail spread over value buckets: counts, bounds and each bucket's first rank.
 struct Buckets {
@@ -140,7 +140,7 @@ impl Gathered {
 /// the M values. Equal, bit for bit, to
 /// [`intervals_from_tails`](super::intervals::intervals_from_tails) on the sorted tails.
 /// Finite values only; each list must hold at least k values.
-pub fn intervals_from_unsorted_tails(
+pub(crate) fn intervals_from_unsorted_tails(
     low: &[f64],
     high: &[f64],
     m: usize,

@@ -5,7 +5,7 @@
 /// c x 10^l with c an integer of `ndig` digits; delta = 10^l / 2 (JCGM 101 7.9.2). With
 /// l = floor(log10 |z|) - ndig + 1, corrected by one when rounding z to `ndig` digits carries
 /// into a new digit (so that c = 10^ndig never occurs).
-pub fn numerical_tolerance(z: f64, ndig: u32) -> f64 {
+pub(crate) fn numerical_tolerance(z: f64, ndig: u32) -> f64 {
     let z = z.abs();
     if !(z.is_finite() && z > 0.0) {
         return 0.0;

@@ -14,7 +14,7 @@ mod order;
 mod parser;
 mod program;
 
-pub use order::{Cycle, topological_order};
+pub(crate) use order::topological_order;
 pub use parser::{Expr, Func, parse};
 pub use program::{Op, Program, Reference, compile};
 
@@ -25,9 +25,9 @@ pub struct FormulaError {
     /// 0-based character index into the formula.
     pub position: usize,
     /// Number of characters the error spans (at least 1).
-    pub length: usize,
+    pub(crate) length: usize,
     /// What is wrong.
-    pub message: String,
+    pub(crate) message: String,
 }
 
 impl FormulaError {
@@ -41,4 +41,4 @@ impl FormulaError {
 }
 
 /// Names a formula may not use for an input or measurand.
-pub const RESERVED: &[&str] = &["pi"];
+pub(crate) const RESERVED: &[&str] = &["pi"];

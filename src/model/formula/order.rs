@@ -3,13 +3,13 @@
 
 /// A cycle of formulas that use each other.
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct Cycle {
+pub(crate) struct Cycle {
     /// The formulas on the cycle in the order they use each other, the first repeated at the end.
-    pub path: Vec<usize>,
+    pub(crate) path: Vec<usize>,
     /// The formula whose reference closes the cycle.
-    pub at: usize,
+    pub(crate) at: usize,
     /// Which of its references (an index into its dependency list) closes it.
-    pub edge: usize,
+    pub(crate) edge: usize,
 }
 
 /// Order the nodes `0..uses.len()` so that each comes after the nodes it uses. `uses[k]` lists
@@ -17,7 +17,7 @@ pub struct Cycle {
 /// something outside the ordering (an input, a chain measurand). Depth-first from node 0, the
 /// references in their order; a node is placed once all it uses are. Iterative, so any depth of
 /// chained formulas is sorted without deep recursion.
-pub fn topological_order(uses: &[Vec<Option<usize>>]) -> Result<Vec<usize>, Cycle> {
+pub(crate) fn topological_order(uses: &[Vec<Option<usize>>]) -> Result<Vec<usize>, Cycle> {
     const NEW: u8 = 0;
     const ON_PATH: u8 = 1;
     const DONE: u8 = 2;

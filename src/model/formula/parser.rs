@@ -40,7 +40,7 @@ type Arity = (usize, usize);
 
 impl Func {
     /// Look a function up by name, with the number of arguments it takes.
-    pub fn from_name(name: &str) -> Option<(Func, Arity)> {
+    pub(crate) fn from_name(name: &str) -> Option<(Func, Arity)> {
         Some(match name {
             "sqrt" => (Func::Sqrt, (1, 1)),
             "exp" => (Func::Exp, (1, 1)),
@@ -61,7 +61,7 @@ impl Func {
     }
 
     /// All function names, for error messages.
-    pub const NAMES: &'static [&'static str] = &[
+    pub(crate) const NAMES: &'static [&'static str] = &[
         "sqrt", "exp", "ln", "log10", "sin", "cos", "tan", "asin", "acos", "atan", "abs", "atan2",
         "min", "max",
     ];

@@ -46,13 +46,13 @@ pub struct Program {
 #[derive(Clone, Debug, PartialEq)]
 pub struct Reference {
     /// The column index.
-    pub column: usize,
+    pub(crate) column: usize,
     /// The name.
-    pub name: String,
+    pub(crate) name: String,
     /// Character position in the formula.
-    pub position: usize,
+    pub(crate) position: usize,
     /// Character length.
-    pub length: usize,
+    pub(crate) length: usize,
 }
 
 /// Compile a parsed formula. `resolve` maps a name to its column, or returns `Err` with the
@@ -228,7 +228,8 @@ fn emit(
 
 impl Program {
     /// The operations, for inspection and tests.
-    pub fn ops(&self) -> &[Op] {
+    #[cfg(test)]
+    pub(crate) fn ops(&self) -> &[Op] {
         &self.ops
     }
 

@@ -8,7 +8,7 @@ use plotters::prelude::*;
 const BAR: RGBColor = RGBColor(31, 119, 180);
 
 /// Draw the chart.
-pub fn draw<DB: DrawingBackend>(
+pub(crate) fn draw<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     c: &Comparison,
 ) -> Result<(), Box<dyn std::error::Error>>

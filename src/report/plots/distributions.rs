@@ -48,7 +48,7 @@ where
 
 /// The histogram of a measurand's trials as a density, its kernel density, the estimate, both
 /// coverage intervals and the LPU interval.
-pub fn measurand<DB: DrawingBackend>(
+pub(crate) fn measurand<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     f: &Findings,
     m: &MeasurandFinding,
@@ -139,7 +139,7 @@ where
 
 /// The distribution function of a measurand at the histogram's edges, with the coverage
 /// probabilities and interval ends marked.
-pub fn cdf<DB: DrawingBackend>(
+pub(crate) fn cdf<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     f: &Findings,
     m: &MeasurandFinding,
@@ -201,7 +201,7 @@ where
 }
 
 /// An input's sampled histogram against the density it was given.
-pub fn input<DB: DrawingBackend>(
+pub(crate) fn input<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     q: &InputFinding,
     shape: &Shape,

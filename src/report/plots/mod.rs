@@ -48,7 +48,7 @@ fn density_label(unit: &str) -> String {
 }
 
 /// Register the bundled font (once per process).
-pub fn ensure_font() {
+pub(crate) fn ensure_font() {
     REGISTER.call_once(|| {
         // The bundled font is a valid TrueType file (checked by a test), so registration only
         // fails if the bytes were damaged at build time.
@@ -58,7 +58,7 @@ pub fn ensure_font() {
 
 /// Image formats of the figures.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, clap::ValueEnum)]
-pub enum PlotFormat {
+pub(crate) enum PlotFormat {
     /// Scalable vector graphics.
     #[default]
     Svg,
@@ -68,7 +68,7 @@ pub enum PlotFormat {
 
 impl PlotFormat {
     /// The file extension.
-    pub fn extension(self) -> &'static str {
+    pub(crate) fn extension(self) -> &'static str {
         match self {
             PlotFormat::Svg => "svg",
             PlotFormat::Png => "png",
@@ -140,7 +140,7 @@ macro_rules! chart {
 }
 
 /// A figure file name made from a quantity name.
-pub fn file_name(prefix: &str, name: &str, format: PlotFormat) -> String {
+pub(crate) fn file_name(prefix: &str, name: &str, format: PlotFormat) -> String {
     let safe: String = name
         .chars()
         .map(|c| {
@@ -155,7 +155,7 @@ pub fn file_name(prefix: &str, name: &str, format: PlotFormat) -> String {
 }
 
 /// The figures the findings call for, as (file name, caption), without drawing them.
-pub fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, String)> {
+pub(crate) fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, String)> {
     let mut out = Vec::new();
     for m in &f.measurands {
         if m.shape.is_some() {
@@ -200,7 +200,7 @@ pub fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, String)> {
 }
 
 /// Every figure of a run's findings.
-pub fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, String> {
+pub(crate) fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, String> {
     let mut names = figure_names(f, format).into_iter();
     let mut out = Vec::new();
     let mut push = |bytes: Vec<u8>| {
@@ -243,7 +243,7 @@ pub fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, String> 
 }
 
 /// Every figure of a report: those of a run, of a comparison, or of a plan's checking run.
-pub fn report_figures(
+pub(crate) fn report_figures(
     report: &super::Report<'_>,
     format: PlotFormat,
 ) -> Result<Vec<Figure>, String> {
@@ -255,7 +255,10 @@ pub fn report_figures(
 }
 
 /// The figure of a comparison: every design's coverage interval relative to its estimate.
-pub fn comparison_figures(c: &Comparison, format: PlotFormat) -> Result<Vec<Figure>, String> {
+pub(crate) fn comparison_figures(
+    c: &Comparison,
+    format: PlotFormat,
+) -> Result<Vec<Figure>, String> {
     let width = (200 + 120 * c.rows.len() as u32).clamp(640, 1600);
     Ok(vec![Figure {
         file: format!("comparison.{}", format.extension()),

@@ -8,7 +8,7 @@ const FIRST: RGBColor = RGBColor(31, 119, 180);
 const TOTAL: RGBColor = RGBColor(255, 127, 14);
 
 /// Draw the chart.
-pub fn draw<DB: DrawingBackend>(
+pub(crate) fn draw<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     f: &Findings,
     m: usize,

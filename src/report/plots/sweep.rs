@@ -10,7 +10,7 @@ const LINE: RGBColor = RGBColor(31, 119, 180);
 const LINE2: RGBColor = RGBColor(255, 127, 14);
 
 /// Draw the chart.
-pub fn draw<DB: DrawingBackend>(
+pub(crate) fn draw<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     f: &Findings,
     sw: &SweepFinding,
