@@ -12,7 +12,8 @@ import sys
 
 
 def version(text):
-    return tuple(int(part) for part in text.split("-")[0].split("."))
+    parts = [int(part) for part in text.split("-")[0].split(".")]
+    return tuple(parts + [0] * (3 - len(parts)))
 
 
 meta = json.loads(
