@@ -4,6 +4,7 @@
 
 mod common;
 
+mod architecture;
 mod bad_inputs;
 mod chains;
 mod cli;
