@@ -42,7 +42,12 @@ fn sources(dir: &Path, out: &mut Vec<PathBuf>) {
 /// The top-level module a source file belongs to (`src/engine/tails.rs` -> `engine`).
 fn module_of(src: &Path, file: &Path) -> String {
     let rel = file.strip_prefix(src).unwrap();
-    let first = rel.components().next().unwrap().as_os_str().to_string_lossy();
+    let first = rel
+        .components()
+        .next()
+        .unwrap()
+        .as_os_str()
+        .to_string_lossy();
     first.trim_end_matches(".rs").to_string()
 }
 
@@ -94,7 +99,10 @@ fn imports_point_down_only() {
             }
         }
     }
-    assert!(wrong.is_empty(), "imports against the module map: {wrong:#?}");
+    assert!(
+        wrong.is_empty(),
+        "imports against the module map: {wrong:#?}"
+    );
 }
 
 // The contributor guide's size rules: small modules with one job, a thin binary.
@@ -109,5 +117,8 @@ fn files_stay_small_and_the_binary_thin() {
         assert!(n <= 700, "{} has {n} lines (at most 700)", file.display());
     }
     let binary = lines(&src.join("main.rs")) + lines(&src.join("cli.rs"));
-    assert!(binary < 400, "main.rs and cli.rs have {binary} lines (under 400)");
+    assert!(
+        binary < 400,
+        "main.rs and cli.rs have {binary} lines (under 400)"
+    );
 }

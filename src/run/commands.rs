@@ -55,7 +55,9 @@ pub fn run(args: &RunArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
     super::check_memory(&study, &options)?;
     warn_all(&study, args.out.quiet, warn);
     let progress = Progress::start(args.out.quiet, super::expected_trials(&study, &options));
-    let result = engine::with_threads(args.study.threads, || super::sweep_study(&study, &options));
+    let result = engine::with_threads(args.study.settings.threads, || {
+        super::sweep_study(&study, &options)
+    });
     progress.finish();
     let (findings, samples) = result??;
     if let (Some(path), Some(samples)) = (&args.samples, &samples) {
@@ -84,7 +86,7 @@ pub fn rank(args: &RankArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
     )?;
     warn_all(&study, args.out.quiet, warn);
     let progress = Progress::start(args.out.quiet, None);
-    let findings = engine::with_threads(args.study.threads, || {
+    let findings = engine::with_threads(args.study.settings.threads, || {
         super::rank_study(&study, &options, &rank)
     });
     progress.finish();
@@ -94,24 +96,25 @@ pub fn rank(args: &RankArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
 
 /// `radforce compare`: designs side by side, paired.
 pub fn compare(args: &CompareArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
-    options::check_threads(args.threads)?;
+    let settings = &args.settings;
+    options::check_threads(settings.threads)?;
     check_outputs(&args.out)?;
     let mut designs = Vec::new();
     for file in &args.files {
         designs.extend(scenario::load_designs(file)?);
     }
     if let Some((_, first)) = designs.first_mut() {
-        options::override_study(first, args.trials, args.seed)?;
+        options::override_study(first, settings.trials, settings.seed)?;
     }
     let options = RunOptions {
-        memory_budget: options::parse_budget(&args.memory_budget)?,
+        memory_budget: options::parse_budget(&settings.memory_budget)?,
         keep_inputs: false,
     };
     for (_, s) in &designs {
         warn_all(s, args.out.quiet, warn);
     }
     let progress = Progress::start(args.out.quiet, None);
-    let comparison = engine::with_threads(args.threads, || {
+    let comparison = engine::with_threads(settings.threads, || {
         super::compare_designs(&designs, &options, args.measurand.as_deref())
     });
     progress.finish();
@@ -133,7 +136,7 @@ pub fn plan(args: &PlanArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
     super::check_memory(&study, &options)?;
     warn_all(&study, args.out.quiet, warn);
     let progress = Progress::start(args.out.quiet, None);
-    let plan = engine::with_threads(args.study.threads, || {
+    let plan = engine::with_threads(args.study.settings.threads, || {
         super::plan_study(&study, &options, spec, m)
     });
     progress.finish();
@@ -179,8 +182,9 @@ pub fn export(args: &ExportArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> 
     }
     warn_all(&study, args.quiet, warn);
     let progress = Progress::start(args.quiet, super::expected_trials(&study, &options));
-    let (findings, samples) =
-        engine::with_threads(args.study.threads, || super::run_study(&study, &options))??;
+    let (findings, samples) = engine::with_threads(args.study.settings.threads, || {
+        super::run_study(&study, &options)
+    })??;
     progress.finish();
     let samples =
         samples.ok_or_else(|| numerical("the bundle needs the trials in memory".into()))?;

@@ -30,17 +30,24 @@ pub(crate) fn command_line_error(key: &str, message: impl Into<String>, example:
 pub(crate) struct StudyArgs {
     /// The scenario file (TOML).
     pub(crate) file: PathBuf,
+    #[command(flatten)]
+    pub(crate) settings: RunSettings,
+}
+
+/// How to run: threads, and trials, seed and memory budget in place of the scenario's.
+#[derive(clap::Args, Clone, Debug)]
+pub(crate) struct RunSettings {
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     pub(crate) threads: Option<usize>,
-    /// Override the scenario's number of trials M.
+    /// Override the scenario's number of trials M (compare: every design's).
     #[arg(long)]
     pub(crate) trials: Option<u64>,
-    /// Override the scenario's seed.
+    /// Override the scenario's seed (compare: every design's).
     #[arg(long)]
     pub(crate) seed: Option<u64>,
-    /// Most memory the run may hold, e.g. 8GiB (default: half of this machine's memory); a
-    /// plain run beyond it is made in more passes, with the same results.
+    /// Most memory the run (of one design) may hold, e.g. 8GiB (default: half of this
+    /// machine's memory); a plain run beyond it is made in more passes, with the same results.
     #[arg(long)]
     pub(crate) memory_budget: Option<String>,
 }
@@ -141,18 +148,9 @@ pub struct CompareArgs {
     /// The measurand to compare (default: the first of the first design).
     #[arg(long)]
     pub(crate) measurand: Option<String>,
-    /// Worker threads (default: all cores).
-    #[arg(long)]
-    pub(crate) threads: Option<usize>,
-    /// Trials for every design (default: the first design's).
-    #[arg(long)]
-    pub(crate) trials: Option<u64>,
-    /// Seed for every design (default: the first design's).
-    #[arg(long)]
-    pub(crate) seed: Option<u64>,
-    /// Most memory the run of one design may hold, e.g. 8GiB.
-    #[arg(long)]
-    pub(crate) memory_budget: Option<String>,
+    /// Every design runs with the first design's trials and seed, or these.
+    #[command(flatten)]
+    pub(crate) settings: RunSettings,
     #[command(flatten)]
     pub(crate) out: OutputArgs,
 }
@@ -248,10 +246,11 @@ pub(crate) fn check_threads(threads: Option<usize>) -> Result<(), Error> {
 /// Load the scenario and apply the command-line overrides.
 pub(crate) fn load(args: &StudyArgs) -> Result<(Study, RunOptions), Error> {
     let mut study = scenario::load_file(&args.file)?;
-    override_study(&mut study, args.trials, args.seed)?;
-    check_threads(args.threads)?;
+    let s = &args.settings;
+    override_study(&mut study, s.trials, s.seed)?;
+    check_threads(s.threads)?;
     let options = RunOptions {
-        memory_budget: parse_budget(&args.memory_budget)?,
+        memory_budget: parse_budget(&s.memory_budget)?,
         keep_inputs: false,
     };
     Ok((study, options))

@@ -351,10 +351,11 @@ pub(crate) fn run_shard(
             "--shard 0/16",
         ));
     }
-    let bytes = engine::with_threads(args.study.threads, || -> Result<Vec<u8>, Error> {
-        let samples = engine::simulate(&study, plan)?;
-        Ok(write_part(&study, &text, &samples, k, n))
-    })??;
+    let bytes =
+        engine::with_threads(args.study.settings.threads, || -> Result<Vec<u8>, Error> {
+            let samples = engine::simulate(&study, plan)?;
+            Ok(write_part(&study, &text, &samples, k, n))
+        })??;
     output::write_atomic(path, &bytes, args.out.force)?;
     Ok(Vec::new())
 }
