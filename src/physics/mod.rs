@@ -9,4 +9,6 @@ pub mod beam;
 pub mod constants;
 pub mod momentum;
 pub mod noise;
+pub mod power_law;
+pub mod procedure;
 pub mod torsion;

@@ -73,6 +73,59 @@ pub fn overlapping_deviations(values: &[f64], tau0: f64) -> Vec<AllanPoint> {
         .collect()
 }
 
+/// The dominant power-law noise at an averaging time, for the degrees of freedom of the
+/// overlapping Allan variance (SP 1065 names the frequency-noise types by the exponent alpha of
+/// S_y(f) ~ f^alpha).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum PowerLaw {
+    /// White frequency noise, alpha = 0.
+    White,
+    /// Flicker frequency noise, alpha = -1.
+    Flicker,
+    /// Random-walk frequency noise, alpha = -2 (also used where a drift dominates).
+    RandomWalk,
+}
+
+/// Equivalent degrees of freedom of the overlapping Allan variance at factor m of a record of
+/// N phase points (M + 1 for M values): the simple formulas of NIST SP 1065 (Riley 2008),
+/// Table 5 (after Howe, Allan and Barnes 1981):
+/// white FM ((3 (N - 1) / (2 m)) - 2 (N - 2) / N) 4 m^2 / (4 m^2 + 5);
+/// flicker FM 2 (N - 2)^2 / (2.3 N - 4.9) at m = 1, 5 N^2 / (4 m (N + 3 m)) above
+/// (the square at m = 1 from memory; a transcription in allantools reads 2 (N - 2) / (...));
+/// random-walk FM ((N - 2) / m) ((N - 1)^2 - 3 m (N - 1) + 4 m^2) / (N - 3)^2.
+/// At least 1.
+pub fn equivalent_dof(noise: PowerLaw, phase_points: usize, m: usize) -> f64 {
+    let (n, m) = (phase_points as f64, m as f64);
+    let edf = match noise {
+        PowerLaw::White => {
+            (3.0 * (n - 1.0) / (2.0 * m) - 2.0 * (n - 2.0) / n) * (4.0 * m * m)
+                / (4.0 * m * m + 5.0)
+        }
+        PowerLaw::Flicker if m <= 1.0 => 2.0 * (n - 2.0).powi(2) / (2.3 * n - 4.9),
+        PowerLaw::Flicker => 5.0 * n * n / (4.0 * m * (n + 3.0 * m)),
+        PowerLaw::RandomWalk => {
+            (n - 2.0) / m * ((n - 1.0).powi(2) - 3.0 * m * (n - 1.0) + 4.0 * m * m)
+                / (n - 3.0).powi(2)
+        }
+    };
+    if edf.is_finite() { edf.max(1.0) } else { 1.0 }
+}
+
+/// The chi-squared confidence interval of a deviation sigma estimated with `edf` degrees of
+/// freedom, at probability `p`: [sigma sqrt(edf / chi2((1 + p)/2)), sigma sqrt(edf /
+/// chi2((1 - p)/2))] (NIST SP 1065 5.3.2).
+pub fn confidence_interval(deviation: f64, edf: f64, p: f64) -> (f64, f64) {
+    use statrs::distribution::{ChiSquared, ContinuousCDF};
+    match ChiSquared::new(edf) {
+        Ok(chi) => {
+            let hi = chi.inverse_cdf(0.5 * (1.0 + p));
+            let lo = chi.inverse_cdf(0.5 * (1.0 - p));
+            (deviation * (edf / hi).sqrt(), deviation * (edf / lo).sqrt())
+        }
+        Err(_) => (f64::NAN, f64::NAN),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -103,5 +156,33 @@ mod tests {
         assert!(p2.deviation < 1e-12);
         assert!(overlapping_deviation(&y, 1.0, 51).is_none());
         assert_eq!(octave_factors(9), vec![1, 2, 4]);
+    }
+
+    // NIST SP 1065 Table 5 at a few points [calc from the formulas]; and the chi-squared
+    // interval contains the estimate and narrows with more degrees of freedom.
+    #[test]
+    fn degrees_of_freedom_and_intervals() {
+        // White FM, N = 1025, m = 1: (3 * 1024 / 2 - 2 * 1023 / 1025) * 4 / 9.
+        let w = equivalent_dof(PowerLaw::White, 1025, 1);
+        assert_relative_eq!(
+            w,
+            (1536.0 - 2046.0 / 1025.0) * 4.0 / 9.0,
+            max_relative = 1e-12
+        );
+        // Random walk FM, N = 1025, m = 256.
+        let r = equivalent_dof(PowerLaw::RandomWalk, 1025, 256);
+        let expect = 1023.0 / 256.0 * (1024.0f64.powi(2) - 768.0 * 1024.0 + 4.0 * 65536.0)
+            / 1022.0f64.powi(2);
+        assert_relative_eq!(r, expect, max_relative = 1e-12);
+        let (lo, hi) = confidence_interval(1.0, 10.0, 0.683);
+        assert!(lo < 1.0 && hi > 1.0);
+        let (lo2, hi2) = confidence_interval(1.0, 1000.0, 0.683);
+        assert!(hi2 - lo2 < hi - lo);
+        // With many degrees of freedom the 68 % interval is about +-1/sqrt(2 edf).
+        assert_relative_eq!(
+            hi2 - 1.0,
+            1.0 / (2.0f64 * 1000.0).sqrt(),
+            max_relative = 0.05
+        );
     }
 }

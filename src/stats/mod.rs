@@ -8,6 +8,7 @@ pub mod allan;
 pub mod histogram;
 pub mod intervals;
 pub mod moments;
+pub mod nnls;
 pub mod summary;
 pub mod tail_buckets;
 pub mod tolerance;
