@@ -44,6 +44,16 @@ impl Dimension {
     /// Acceleration, m s^-2.
     pub(crate) const ACCELERATION: Dimension = Dimension([1, 0, -2, 0, 0, 0, 0, 0]);
 
+    /// This dimension divided by another (force per time, ...).
+    pub(crate) fn per(self, other: Dimension) -> Dimension {
+        self.mul(other, -1)
+    }
+
+    /// This dimension times another.
+    pub(crate) fn times(self, other: Dimension) -> Dimension {
+        self.mul(other, 1)
+    }
+
     fn mul(self, other: Dimension, power: i8) -> Dimension {
         let mut out = self.0;
         for (o, e) in out.iter_mut().zip(other.0) {

@@ -5,6 +5,7 @@
 pub(crate) mod budget;
 pub(crate) mod lpu;
 pub(crate) mod planning;
+pub(crate) mod procedure;
 pub mod sensitivity;
 pub(crate) mod validation;
 
@@ -194,6 +195,10 @@ pub struct Findings {
     pub(crate) sensitivity: Option<SensitivityFinding>,
     /// The noise floor from `[noise]`.
     pub(crate) noise: Option<crate::scenario::NoiseFloor>,
+    /// The forecast from `[forecast]`.
+    pub forecast: Option<procedure::ForecastFinding>,
+    /// The planned measurement from `[procedure]` under `[noise]`.
+    pub procedure: Option<procedure::ProcedureFinding>,
     /// The sweep from `[sweep]`.
     pub(crate) sweep: Option<planning::SweepFinding>,
     /// Names of the variants in the scenario file.
@@ -384,6 +389,8 @@ pub(crate) fn findings_from(
         adaptive: adaptive_finding,
         sensitivity: None,
         noise: study.noise.clone(),
+        forecast: procedure::forecast_finding(study),
+        procedure: procedure::procedure_finding(study),
         sweep: None,
         variants: study.variants.clone(),
         warnings,

@@ -4,11 +4,14 @@
 //! |c_i| u(x_i) the contributions and u_c^2 = sum a_i^2 + X (X the cross terms of correlated
 //! inputs, held fixed), input i alone reaches a target standard uncertainty u_T when
 //! u_T^2 - (u_c^2 - a_i^2) > 0, with u'(x_i) = sqrt(u_T^2 - (u_c^2 - a_i^2)) / |c_i|; otherwise
-//! the others leave the floor sqrt(u_c^2 - a_i^2). The plan improves as few inputs as it can: one
-//! input if any can do it alone (the one needing the smallest factor), else the n largest
-//! contributors by a common factor f = sqrt(sum_top a_i^2 / (u_T^2 - rest)) for the smallest n
-//! that works (greedy on the largest contribution). A Monte Carlo run with the narrowed inputs
-//! then checks it.
+//! the others leave the floor sqrt(u_c^2 - a_i^2). Each input may have a limit b_i, the smallest
+//! standard uncertainty the experiment can reach for it (`best`; for `noise_force`, what the
+//! most cycles of the procedure give). The plan improves the largest contributors first: for
+//! the fewest n of them (in order of contribution, those that can still improve), the smallest
+//! common factor f with sum_top max(a_i / f, |c_i| b_i)^2 + rest <= u_T^2, so each goes down to
+//! what is needed or to its limit. A target that even every input at its limit cannot reach is
+//! reported with the floor the limits leave. A Monte Carlo run with the narrowed inputs then
+//! checks it.
 
 use super::{Findings, MeasurandFinding, Summary};
 
@@ -79,6 +82,12 @@ pub(crate) struct Change {
     pub(crate) to: f64,
     /// from / to.
     pub(crate) factor: f64,
+    /// Whether it stops at its limit.
+    pub(crate) at_limit: bool,
+    /// For `noise_force` under a procedure: the cycles that give it.
+    pub(crate) cycles: Option<u64>,
+    /// For `noise_force`: the total time of those cycles, or the averaging time, s.
+    pub(crate) total_time: Option<f64>,
 }
 
 /// A plan before its check.
@@ -94,42 +103,45 @@ pub(crate) struct Proposal {
     pub(crate) unreachable: bool,
     /// How the plan was chosen, in words.
     pub(crate) explanation: String,
+    /// When unreachable: the uncertainty every input at its limit leaves, in the target's terms.
+    pub(crate) floor: Option<f64>,
 }
 
 /// Propose the changes for measurand `m` of a run, for a target standard uncertainty `u_t`
-/// (SI); `spec` and `k` express floors in the user's terms.
+/// (SI); `spec` and `k` express floors in the user's terms; `limit(i)` is the smallest standard
+/// uncertainty input i can reach (0 when there is no limit).
 pub(crate) fn propose(
     m: &MeasurandFinding,
     u_t: f64,
     spec: &TargetSpec,
     k: f64,
+    limit: &dyn Fn(usize) -> f64,
 ) -> Option<Proposal> {
     let lpu = m.lpu.as_ref()?;
     let uc2 = lpu.standard_uncertainty.powi(2);
     let y = m.monte_carlo.estimate;
-    let rows: Vec<(usize, f64, f64, f64)> = m
+    // (input, u, |c|, a, the least contribution its limit allows)
+    let rows: Vec<(usize, f64, f64, f64, f64)> = m
         .budget
         .iter()
         .map(|b| {
-            (
-                b.input,
-                b.standard_uncertainty,
-                b.sensitivity.abs(),
-                b.contribution,
-            )
+            let c = b.sensitivity.abs();
+            let least = (c * limit(b.input)).min(b.contribution);
+            (b.input, b.standard_uncertainty, c, b.contribution, least)
         })
         .collect();
     let sum_a2: f64 = rows.iter().map(|r| r.3 * r.3).sum();
     let cross = uc2 - sum_a2;
     let alone: Vec<AloneRow> = rows
         .iter()
-        .map(|&(i, u, c, a)| {
+        .map(|&(i, u, c, a, least)| {
             let rest = uc2 - a * a;
             let room = u_t * u_t - rest;
+            let needed = (room > 0.0 && c > 0.0).then(|| room.sqrt() / c);
             AloneRow {
                 input: i,
                 current: u,
-                needed: (room > 0.0 && c > 0.0).then(|| room.sqrt() / c),
+                needed: needed.filter(|n| c * n >= least),
                 floor: spec.express_standard(rest.max(0.0).sqrt(), y, k),
             }
         })
@@ -142,60 +154,94 @@ pub(crate) fn propose(
             unreachable: false,
             explanation:
                 "the law of propagation already meets the target; no input needs improving".into(),
+            floor: None,
         });
     }
-    // One input, the smallest factor.
-    let best_single = alone
-        .iter()
-        .filter_map(|r| r.needed.map(|n| (r.input, r.current, n, r.current / n)))
-        .min_by(|a, b| a.3.total_cmp(&b.3));
-    if let Some((i, from, to, factor)) = best_single {
-        return Some(Proposal {
-            alone,
-            changes: vec![Change { input: i, from, to, factor }],
-            already_met: false,
-            unreachable: false,
-            explanation: "one input can reach the target alone; the plan improves the one that needs the smallest factor".into(),
-        });
-    }
-    // The n largest contributors by a common factor, for the smallest n that works.
-    let mut sorted = rows.clone();
-    sorted.sort_by(|a, b| b.3.total_cmp(&a.3));
-    for n in 2..=sorted.len() {
-        let top: f64 = sorted[..n].iter().map(|r| r.3 * r.3).sum();
-        let rest = uc2 - top;
-        let room = u_t * u_t - rest;
-        if room > 0.0 {
-            let f = (top / room).sqrt();
-            let changes = sorted[..n]
-                .iter()
-                .map(|&(i, u, _, _)| Change {
+    // The contributors that can still improve, largest first.
+    let mut order: Vec<&(usize, f64, f64, f64, f64)> =
+        rows.iter().filter(|r| r.4 < r.3 * (1.0 - 1e-12)).collect();
+    order.sort_by(|a, b| b.3.total_cmp(&a.3));
+    let others = |n: usize| -> f64 {
+        rows.iter()
+            .filter(|r| !order[..n].iter().any(|o| o.0 == r.0))
+            .map(|r| r.3 * r.3)
+            .sum::<f64>()
+            + cross
+    };
+    // With the top n improved by a common factor f, each held at its limit.
+    let variance = |n: usize, f: f64| -> f64 {
+        order[..n]
+            .iter()
+            .map(|r| (r.3 / f).max(r.4).powi(2))
+            .sum::<f64>()
+            + others(n)
+    };
+    for n in 1..=order.len() {
+        if variance(n, f64::INFINITY) > u_t * u_t {
+            continue;
+        }
+        // The smallest f >= 1 that reaches the target (the variance falls as f grows).
+        let (mut lo, mut hi) = (1.0f64, 2.0f64);
+        while variance(n, hi) > u_t * u_t {
+            lo = hi;
+            hi *= 2.0;
+            if hi > 1e300 {
+                break;
+            }
+        }
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if variance(n, mid) > u_t * u_t {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        let changes: Vec<Change> = order[..n]
+            .iter()
+            .map(|&&(i, u, c, a, least)| {
+                let to = if c > 0.0 { (a / hi).max(least) / c } else { u };
+                Change {
                     input: i,
                     from: u,
-                    to: u / f,
-                    factor: f,
-                })
-                .collect();
-            return Some(Proposal {
-                alone,
-                changes,
-                already_met: false,
-                unreachable: false,
-                explanation: format!(
-                    "no input can reach the target alone; the plan improves the {n} largest contributors (greedy on the largest contribution) by one common factor, the fewest inputs that can"
-                ),
-            });
-        }
+                    to,
+                    factor: u / to,
+                    at_limit: (a / hi) <= least,
+                    cycles: None,
+                    total_time: None,
+                }
+            })
+            .collect();
+        let limited = changes.iter().filter(|c| c.at_limit).count();
+        let explanation = if n == 1 {
+            "one input can reach the target: the largest contributor that can improve, as far as needed".to_string()
+        } else {
+            format!(
+                "the {n} largest contributors that can still improve, the fewest that reach the target, each down to what is needed by one common factor{}",
+                if limited > 0 {
+                    format!(", or to its limit ({limited} of them)")
+                } else {
+                    String::new()
+                }
+            )
+        };
+        return Some(Proposal {
+            alone,
+            changes,
+            already_met: false,
+            unreachable: false,
+            explanation,
+            floor: None,
+        });
     }
+    let floor = rows.iter().map(|r| r.4 * r.4).sum::<f64>() + cross;
     Some(Proposal {
         alone,
         changes: Vec::new(),
         already_met: false,
         unreachable: true,
-        explanation: format!(
-            "even exact inputs leave the correlation cross terms, {} in the target's terms: the target cannot be reached by improving inputs",
-            spec.express_standard(cross.max(0.0).sqrt(), y, k)
-        ),
+        explanation: "even every input at its limit (from `best`, the noise from the most cycles of the procedure, and the correlation cross terms) leaves more than the target: it cannot be reached by improving inputs".into(),
+        floor: Some(spec.express_standard(floor.max(0.0).sqrt(), y, k)),
     })
 }
 

@@ -202,10 +202,24 @@ pub(crate) struct InputValues<'a> {
     pub(crate) upper: &'a dyn Fn(&str) -> Option<f64>,
 }
 
+/// How a calibration chain forecasts its observed signal for a meter that does not exist yet:
+/// the input it observes (`readout_shift`, `reading`) and the chain that predicts it from a
+/// power (its signal twin, which gives a measurand of the same name).
+#[derive(Clone, Copy, Debug)]
+pub struct Forecastable {
+    /// The observed input of this chain.
+    pub observed: &'static str,
+    /// The name of the signal twin.
+    pub twin: &'static str,
+}
+
 /// A built-in measurement chain: a named model over `physics` functions.
 pub(crate) trait Chain {
     /// Its name, inputs and measurands.
     const SPEC: ChainSpec;
+
+    /// For a calibration chain, its observed input and signal twin (`[forecast]`).
+    const FORECAST: Option<Forecastable> = None;
 
     /// Evaluate one trial: `args` in the order of `SPEC.inputs`, results into `out` in the order
     /// of `SPEC.measurands`. A pure function, generic over the model's number type so that the

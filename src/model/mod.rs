@@ -52,6 +52,24 @@ macro_rules! chains {
                 }
             }
 
+            /// The observed input and signal twin of a calibration chain (see
+            /// [`Chain::FORECAST`]).
+            pub fn forecast(self) -> Option<chain::Forecastable> {
+                match self {
+                    $($(ChainKind::$variant => <$module::$ty as Chain>::FORECAST,)*)*
+                }
+            }
+
+            /// Evaluate the chain once: `args` in the order of its inputs; its measurands in
+            /// order.
+            pub fn evaluate_point(self, args: &[f64]) -> Vec<f64> {
+                let mut out = vec![0.0; self.spec().measurands.len()];
+                match self {
+                    $($(ChainKind::$variant => <$module::$ty as Chain>::evaluate(args, &mut out),)*)*
+                }
+                out
+            }
+
             /// The chain's checks across inputs at load (see [`Chain::cross_checks`]).
             pub(crate) fn cross_checks(self, inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
                 match self {

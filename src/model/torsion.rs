@@ -10,7 +10,7 @@
 //! clipping in `physics::beam`, the balance and optical lever in `physics::torsion`.
 
 use super::chain::{
-    Chain, ChainInput, ChainIssue, ChainMeasurand, ChainSpec, Domain, InputValues,
+    Chain, Forecastable, ChainInput, ChainIssue, ChainMeasurand, ChainSpec, Domain, InputValues,
     MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT, input, join,
 };
 use crate::physics::beam::gaussian_aperture_fraction;
@@ -198,6 +198,10 @@ pub(crate) struct TorsionPower;
 
 impl Chain for TorsionPower {
     const SPEC: ChainSpec = TORSION_POWER;
+    const FORECAST: Option<Forecastable> = Some(Forecastable {
+        observed: "readout_shift",
+        twin: "torsion-signal",
+    });
 
     #[inline(always)]
     fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {

@@ -11,7 +11,7 @@
 //! reflections whose force acts on the weighed body.
 
 use super::chain::{
-    Chain, ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS,
+    Chain, Forecastable, ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS,
     NOISE_FORCE_INPUT, input, join,
 };
 use crate::physics::balance::{balance_reading, force_from_reading};
@@ -142,6 +142,10 @@ pub(crate) struct WeighingPower;
 
 impl Chain for WeighingPower {
     const SPEC: ChainSpec = WEIGHING_POWER;
+    const FORECAST: Option<Forecastable> = Some(Forecastable {
+        observed: "reading",
+        twin: "weighing-signal",
+    });
 
     #[inline(always)]
     fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {

@@ -33,8 +33,8 @@ pub const PSD_CONVENTION: &str = "one-sided power spectral densities; the resolu
 /// What the `[noise]` table asked for.
 #[derive(Clone, Debug, PartialEq)]
 pub struct NoiseSettings {
-    /// Averaging time t, s.
-    pub averaging_time: f64,
+    /// Averaging time t, s (white noise averaged without a procedure).
+    pub averaging_time: Option<f64>,
     /// Temperature of the pendulum, K.
     pub temperature: Option<f64>,
     /// Damping model of the pendulum.
@@ -43,8 +43,14 @@ pub struct NoiseSettings {
     pub signal_frequency: Option<f64>,
     /// Optical-lever angle noise density, rad/sqrt(Hz).
     pub readout_angle_noise: Option<f64>,
-    /// A balance's (or any added) force noise density, N/sqrt(Hz).
+    /// A balance's (or any added) white force noise density, N/sqrt(Hz).
     pub force_noise: Option<f64>,
+    /// Flicker floor: the flat Allan deviation, N.
+    pub flicker: Option<f64>,
+    /// Random-walk coefficient K (sigma_A(tau) = K sqrt(tau / 3)), N/sqrt(s).
+    pub random_walk: Option<f64>,
+    /// Linear drift rate, N/s.
+    pub drift: Option<f64>,
     /// Laser wavelength for the shot noise, m.
     pub wavelength: Option<f64>,
     /// Force resolution to report the averaging time for: absolute (N) or relative to the force.

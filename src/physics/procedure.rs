@@ -268,6 +268,100 @@ impl Procedure {
     }
 }
 
+/// The most cycles a plan or search considers (a year of one-second phases is 1.6e7; beyond
+/// 10^6 cycles a procedure is not a plan).
+pub const MAX_CYCLES: u64 = 1_000_000;
+
+impl Procedure {
+    /// The same procedure with `cycles` cycles.
+    pub fn with_cycles(&self, cycles: u64) -> Procedure {
+        Procedure { cycles, ..*self }
+    }
+
+    /// The fewest cycles (the phases unchanged) whose estimator standard uncertainty
+    /// ([`EstimatorTerms::standard_uncertainty`]) is at most `target`, searched by doubling then
+    /// bisection (the uncertainty falls with the number of cycles); `None` when even
+    /// [`MAX_CYCLES`] cycles do not reach it (a flicker floor, or a drift bias that more cycles
+    /// do not reduce).
+    pub fn cycles_for(&self, model: &NoiseModel, target: f64) -> Option<u64> {
+        let u = |n: u64| {
+            self.with_cycles(n)
+                .estimator_terms(model)
+                .standard_uncertainty()
+        };
+        if target.is_nan() || target <= 0.0 {
+            return None;
+        }
+        let mut hi = 1u64;
+        while u(hi) > target {
+            if hi >= MAX_CYCLES {
+                return None;
+            }
+            hi = (hi * 2).min(MAX_CYCLES);
+        }
+        let mut lo = hi / 2; // u(lo) > target, or lo = 0
+        while hi - lo > 1 {
+            let mid = lo + (hi - lo) / 2;
+            if u(mid) > target {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        Some(hi)
+    }
+
+    /// For the same total time, the phase lengths (on and off in their ratio, the settling
+    /// kept) and number of cycles that give the smallest estimator standard uncertainty: flicker
+    /// and random walk make long phases costly, white noise and the settling make short ones
+    /// wasteful. A search over whole numbers of cycles: a geometric grid (ratio 1.1), then every
+    /// count around the best. `None` when no other count fits (phases no longer than the
+    /// settling).
+    pub fn best_phases(&self, model: &NoiseModel) -> Option<(Procedure, EstimatorTerms)> {
+        let total = self.total_time();
+        let ratio = self.on_time / self.off_time;
+        let with_count = |n: u64| -> Option<Procedure> {
+            let nf = n as f64;
+            let off = match self.pattern {
+                Pattern::Alternate => total / (nf * (1.0 + ratio)),
+                Pattern::Aba => total / (nf * (1.0 + ratio) + 1.0),
+            };
+            let on = ratio * off;
+            (off > self.settle_time && on > self.settle_time).then_some(Procedure {
+                cycles: n,
+                on_time: on,
+                off_time: off,
+                ..*self
+            })
+        };
+        let score = |n: u64| {
+            with_count(n).map(|p| {
+                let t = p.estimator_terms(model);
+                (p, t, t.standard_uncertainty())
+            })
+        };
+        let mut best: Option<(Procedure, EstimatorTerms, f64)> = None;
+        let consider = |n: u64, best: &mut Option<(Procedure, EstimatorTerms, f64)>| {
+            if let Some(c) = score(n)
+                && best.as_ref().is_none_or(|b| c.2 < b.2)
+            {
+                *best = Some(c);
+            }
+        };
+        let mut n = 1.0f64;
+        while (n as u64) <= MAX_CYCLES && with_count(n as u64).is_some() {
+            consider(n as u64, &mut best);
+            n = (n * 1.1).max(n + 1.0);
+        }
+        let centre = best.as_ref()?.0.cycles;
+        let span = (centre / 10).max(2);
+        for k in centre.saturating_sub(span).max(1)..=centre + span {
+            consider(k, &mut best);
+        }
+        best.map(|(p, t, _)| (p, t))
+    }
+}
+
 /// sum over pairs of windows of w_j w_k J(j, k), J the double integral of g(s - t) over the two
 /// windows, grouped by class pair and lag: O(number of cycles).
 fn double_sum(classes: &[WindowClass], period: f64, pair: fn(f64, f64, f64) -> f64) -> f64 {
@@ -442,6 +536,42 @@ mod tests {
         // Overlapping windows (the integrand's logarithmic singularity is integrable).
         assert_relative_eq!(ln_pair(0.0, 1.0, 1.0), -1.5, max_relative = 1e-12);
         assert_relative_eq!(abs_pair(0.0, 1.0, 1.0), 1.0 / 3.0, max_relative = 1e-12);
+    }
+
+    // The searches: the fewest cycles for a target is the first count whose uncertainty is
+    // at most the target (checked against its neighbour); with white noise only, the best
+    // phases for a fixed total time are the longest (settling is pure loss), with random walk
+    // they are shorter [common practice of on/off measurements; exact variances above].
+    #[test]
+    fn searches() {
+        let p = Procedure {
+            pattern: Pattern::Alternate,
+            cycles: 10,
+            on_time: 60.0,
+            off_time: 60.0,
+            settle_time: 10.0,
+        };
+        let white = model(20e-9, 0.0, 0.0, 0.0);
+        let target = 0.3e-9;
+        let n = p.cycles_for(&white, target).unwrap();
+        let u = |n| {
+            p.with_cycles(n)
+                .estimator_terms(&white)
+                .standard_uncertainty()
+        };
+        assert!(u(n) <= target && u(n - 1) > target);
+        // h0 / (N t) <= target^2: N = ceil(h0 / (t target^2)) [calc].
+        assert_eq!(n, (400e-18f64 / (50.0 * target * target)).ceil() as u64);
+        let (best, _) = p.best_phases(&white).unwrap();
+        assert_eq!(best.cycles, 1);
+        let walk = model(1e-9, 0.0, 2e-10, 0.0);
+        let (best_rw, terms) = p.best_phases(&walk).unwrap();
+        assert!(best_rw.cycles > 10, "{best_rw:?}");
+        assert!(terms.standard_uncertainty() <= p.estimator_terms(&walk).standard_uncertainty());
+        assert!((best_rw.total_time() - p.total_time()).abs() < 1e-9);
+        // A flicker floor that more cycles of the same phases cannot pass.
+        let floor = model(0.0, 5e-9, 0.0, 0.0);
+        assert!(p.cycles_for(&floor, 1e-12).is_none());
     }
 
     // ABA cancels a linear drift exactly; the alternate pattern keeps D (mean time on - mean

@@ -1,7 +1,7 @@
 //! Text reports of comparisons and plans.
 
 use super::cautions::cautions;
-use super::format::{duration, force_text, grouped, percent};
+use super::format::{cycles_text, duration, force_text, grouped, percent};
 use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
 use super::table::TextTable;
 use crate::analysis::planning::{Comparison, PlanFinding};
@@ -55,7 +55,7 @@ pub(crate) fn comparison(c: &Comparison) -> String {
             &format!("{p} interval"),
             "largest contributors",
             "noise floor",
-            "averaging for target",
+            "time for target",
         ],
         &[
             true, false, false, true, true, true, true, false, false, false, false,
@@ -77,16 +77,26 @@ pub(crate) fn comparison(c: &Comparison) -> String {
             .iter()
             .map(|(n, sh)| format!("{n} {:.0} %", 100.0 * sh))
             .collect();
-        let (noise, time) = match &r.findings.noise {
-            Some(n) => (
+        let (noise, time) = match (&r.findings.noise, &r.findings.procedure) {
+            (Some(n), Some(p)) => (
                 force_text(n.resolution),
-                format!(
-                    "{} for {}",
-                    duration(n.time_for_target),
-                    force_text(n.target_resolution)
-                ),
+                match p.cycles_for_target {
+                    Some(c) => format!(
+                        "{} ({}) for {}",
+                        cycles_text(c),
+                        duration(p.procedure.with_cycles(c).total_time()),
+                        force_text(n.target_resolution)
+                    ),
+                    None => format!("{} not reached", force_text(n.target_resolution)),
+                },
             ),
-            None => ("-".into(), "-".into()),
+            (Some(n), None) => (
+                force_text(n.resolution),
+                n.time_for_target.map_or("-".into(), |t| {
+                    format!("{} for {}", duration(t), force_text(n.target_resolution))
+                }),
+            ),
+            _ => ("-".into(), "-".into()),
         };
         t.row(vec![
             format!("{}", r.rank),
@@ -169,16 +179,25 @@ pub(crate) fn plan(p: &PlanFinding) -> String {
     }
     out.push_str(&t.render());
     out.push_str(&format!("\nThe plan: {}.\n", p.proposal.explanation));
+    if let Some(floor) = p.proposal.floor {
+        out.push_str(&format!(
+            "The limits leave {} against the target {}.\n",
+            target_value(p, floor),
+            target_value(p, p.spec.value)
+        ));
+    }
     for c in &p.proposal.changes {
         let q = &f.inputs[c.input];
         let unit = &q.shown_unit;
-        let hint = if q.name == "noise_force" {
-            format!(
-                " (average {} times longer)",
-                significant(c.factor * c.factor, 3)
-            )
-        } else {
-            String::new()
+        let hint = match (c.cycles, c.total_time) {
+            (Some(n), Some(t)) => format!(
+                ": {} of the procedure's phases, {} in all",
+                cycles_text(n),
+                duration(t)
+            ),
+            (None, Some(t)) => format!(": {} of averaging", duration(t)),
+            _ if c.at_limit => ": to its limit (`best`)".to_string(),
+            _ => String::new(),
         };
         out.push_str(&format!(
             "  {}: u from {} to {} {} (improve by a factor {}){hint}\n",

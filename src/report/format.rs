@@ -191,6 +191,15 @@ pub(crate) fn force_text(x: f64) -> String {
     format!("{} {}", significant(x / u.factor, 3), u.symbol)
 }
 
+/// A count of cycles in words ("1 cycle", "12 cycles").
+pub(crate) fn cycles_text(n: u64) -> String {
+    if n == 1 {
+        "1 cycle".into()
+    } else {
+        format!("{} cycles", grouped(n))
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

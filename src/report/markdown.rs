@@ -237,15 +237,7 @@ impl MarkdownReport {
                 &rows,
             ));
         }
-        if let Some(n) = &f.noise {
-            out.push_str(&format!(
-                "\n## Noise floor\n\nForce noise density {}/sqrt(Hz) at the estimates; averaged for {}, it leaves a force resolution of {}, which enters the budget as `noise_force`. Convention: {}.\n",
-                super::format::force_text(n.density),
-                super::format::duration(n.averaging_time),
-                super::format::force_text(n.resolution),
-                crate::scenario::PSD_CONVENTION
-            ));
-        }
+        out.push_str(&noise_and_procedure(f));
         out.push_str(&self.figures_section(&super::plots::figure_names(f, self.plot_format)));
         out.push_str(&format!(
             "\n## Method\n\n{METHOD} Random streams: {}.\n",
@@ -355,8 +347,17 @@ impl MarkdownReport {
             .changes
             .iter()
             .map(|c| {
+                let how = match (c.cycles, c.total_time) {
+                    (Some(n), Some(t)) => format!(
+                        " ({n} cycles, {} of measurement)",
+                        super::format::duration(t)
+                    ),
+                    (None, Some(t)) => format!(" ({} of averaging)", super::format::duration(t)),
+                    _ if c.at_limit => " (to its limit)".to_string(),
+                    _ => String::new(),
+                };
                 format!(
-                    "{} by a factor {}",
+                    "{} by a factor {}{how}",
                     f.inputs[c.input].name,
                     significant(c.factor, 2)
                 )
@@ -444,4 +445,89 @@ impl Exporter for MarkdownReport {
         }
         .into_bytes())
     }
+}
+
+/// The noise, the forecast and the planned measurement, in words.
+fn noise_and_procedure(f: &Findings) -> String {
+    use super::format::{duration, force_text};
+    let mut out = String::new();
+    if let Some(fc) = &f.forecast {
+        out.push_str(&format!(
+            "\n## Forecast\n\nThis is a forecast for a laser power of {} W: the {} the meter would show, {} {}, is predicted from the model at the input estimates and held as an exact constant, since there is no observation yet. The uncertainty is what the meter can claim at that power.\n",
+            significant(fc.power, 4),
+            fc.input,
+            significant(fc.value / fc.unit.factor, 6),
+            fc.unit.symbol
+        ));
+    }
+    if let Some(n) = &f.noise {
+        let m = &n.model;
+        let mut terms = vec![format!("white {}/sqrt(Hz)", force_text(m.white))];
+        if m.flicker > 0.0 {
+            terms.push(format!("a flicker floor of {}", force_text(m.flicker)));
+        }
+        if m.random_walk > 0.0 {
+            terms.push(format!("a random walk K = {}/sqrt(s)", force_text(m.random_walk)));
+        }
+        if m.drift != 0.0 {
+            terms.push(format!("a drift of {}/min", force_text(m.drift * 60.0)));
+        }
+        out.push_str(&format!(
+            "\n## Noise of the instrument\n\nThe force noise at the balance's output is {}{}. Convention: {}.\n",
+            terms.join(", "),
+            n.measured.as_ref().map_or(String::new(), |meas| format!(
+                ", fitted by weighted least squares to the overlapping Allan deviation (NIST SP 1065) of the {}",
+                meas.source
+            )),
+            crate::physics::noise::PSD_CONVENTION
+        ));
+        if let (Some(t), Some(need)) = (n.averaging_time, n.time_for_target) {
+            out.push_str(&format!(
+                "\nAveraged for {}, it leaves a force resolution of {}, which enters the budget as `noise_force`; a resolution of {} would need {} of averaging.\n",
+                duration(t),
+                force_text(n.resolution),
+                force_text(n.target_resolution),
+                duration(need)
+            ));
+        }
+    }
+    if let Some(p) = &f.procedure {
+        let pr = &p.procedure;
+        out.push_str(&format!(
+            "\n## Measurement procedure\n\n{} pattern, {} cycles of {} with the laser on and {} off, the first {} of every phase discarded: {} in all. The estimator's noise, {} (white {}, flicker {}, random walk {}; drift bias {}), enters the budget as `noise_force`.",
+            pr.pattern.name(),
+            pr.cycles,
+            duration(pr.on_time),
+            duration(pr.off_time),
+            duration(pr.settle_time),
+            duration(p.total_time),
+            force_text(p.estimator_sd),
+            force_text(p.terms.white),
+            force_text(p.terms.flicker),
+            force_text(p.terms.random_walk),
+            force_text(p.terms.drift_bias.abs())
+        ));
+        out.push_str(&match p.cycles_for_target {
+            Some(c) => format!(
+                " A force resolution of {} takes {c} cycles of these phases ({}).",
+                force_text(p.target_resolution),
+                duration(pr.with_cycles(c).total_time())
+            ),
+            None => format!(
+                " A force resolution of {} is not reached by more cycles of these phases.",
+                force_text(p.target_resolution)
+            ),
+        });
+        if let Some((b, bt)) = &p.best {
+            out.push_str(&format!(
+                " For the same time, phases of {} on and {} off ({} cycles) would give {}.",
+                duration(b.on_time),
+                duration(b.off_time),
+                b.cycles,
+                force_text(bt.standard_uncertainty())
+            ));
+        }
+        out.push('\n');
+    }
+    out
 }

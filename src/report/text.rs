@@ -2,7 +2,7 @@
 
 use super::{Context, Exporter, Report};
 use super::cautions::cautions;
-use super::format::{
+use super::format::{cycles_text, 
     duration, exact, fixed, force_text, grouped, input_pair, measurand_unit, percent,
     relative_percent, significant, value_and_uncertainty,
 };
@@ -38,7 +38,17 @@ fn run(f: &Findings) -> String {
             f.seed,
             percent(f.coverage)
         ));
-        out.push_str("Monte Carlo propagation of distributions (JCGM 101:2008)\n\n");
+        out.push_str("Monte Carlo propagation of distributions (JCGM 101:2008)\n");
+        if let Some(fc) = &f.forecast {
+            out.push_str(&format!(
+                "forecast for {} W: the {} a meter would show, {} {}, is predicted from the model and held as an exact constant (no observation yet)\n",
+                significant(fc.power, 4),
+                fc.input,
+                significant(fc.value / fc.unit.factor, 6),
+                fc.unit.symbol
+            ));
+        }
+        out.push('\n');
 
         let p = percent(f.coverage);
         let mut t = TextTable::new(
@@ -95,6 +105,7 @@ fn run(f: &Findings) -> String {
         }
         correlation_section(&mut out, f);
         noise_section(&mut out, f);
+        procedure_section(&mut out, f);
         sweep_section(&mut out, f);
 
         out.push('\n');
@@ -391,25 +402,133 @@ fn sensitivity_section(out: &mut String, f: &Findings) {
     ));
 }
 
-/// The noise floor from `[noise]`.
+/// A force noise term's value in words ("2.0 nN"), the unit given.
+fn term(x: f64, per: &str) -> String {
+    format!("{}{per}", force_text(x))
+}
+
+/// The noise from `[noise]`: its terms, the measurement they were fitted to, and (white noise
+/// without a procedure) the averaging.
 fn noise_section(out: &mut String, f: &Findings) {
     let Some(n) = &f.noise else { return };
-    out.push_str("\nnoise floor (force noise densities at the input estimates):\n");
-    for (name, d) in &n.components {
-        out.push_str(&format!("  {name}: {}/sqrt(Hz)\n", force_text(*d)));
+    out.push_str("\nnoise of the instrument at the input estimates (one-sided densities):\n");
+    let white: Vec<String> = n
+        .components
+        .iter()
+        .map(|(name, d)| format!("{name} {}", term(*d, "/sqrt(Hz)")))
+        .collect();
+    out.push_str(&format!(
+        "  white: {}{}\n",
+        white.join("; "),
+        if n.components.len() > 1 {
+            format!("; total {}", term(n.density, "/sqrt(Hz)"))
+        } else {
+            String::new()
+        }
+    ));
+    let m = &n.model;
+    let mut coloured = Vec::new();
+    if m.flicker > 0.0 {
+        coloured.push(format!("flicker floor {}", term(m.flicker, "")));
+    }
+    if m.random_walk > 0.0 {
+        coloured.push(format!("random walk K = {}", term(m.random_walk, "/sqrt(s)")));
+    }
+    if m.drift != 0.0 {
+        coloured.push(format!("drift {}", term(m.drift * 60.0, "/min")));
+    }
+    if !coloured.is_empty() {
+        out.push_str(&format!("  {}\n", coloured.join("; ")));
+    }
+    if let Some(meas) = &n.measured {
+        out.push_str(&format!(
+            "  fitted (weighted least squares on the overlapping Allan deviation, NIST SP 1065) to the {}:\n",
+            meas.source
+        ));
+        let mut t = TextTable::new(
+            &["tau", "measured", "68 % interval", "fitted", "residual"],
+            &[true, true, false, true, true],
+        );
+        for (p, r) in meas.points.iter().zip(&meas.fit.residuals) {
+            t.row(vec![
+                duration(p.0),
+                force_text(p.1),
+                p.2.map_or("-".into(), |(a, b)| {
+                    format!("[{}, {}]", force_text(a), force_text(b))
+                }),
+                force_text(r.2),
+                format!("{:+.1} %", 100.0 * r.3),
+            ]);
+        }
+        out.push_str(&t.render());
+    }
+    if let (Some(t), Some(need)) = (n.averaging_time, n.time_for_target) {
+        out.push_str(&format!(
+            "  averaged for {}: force resolution {} (the input `noise_force`); {} resolution needs {} of averaging\n",
+            duration(t),
+            force_text(n.resolution),
+            force_text(n.target_resolution),
+            duration(need)
+        ));
     }
     out.push_str(&format!(
-        "  total {}/sqrt(Hz); averaged for {}: force resolution {} (the input `noise_force`); {} resolution needs {} of averaging\n",
-        force_text(n.density),
-        duration(n.averaging_time),
-        force_text(n.resolution),
-        force_text(n.target_resolution),
-        duration(n.time_for_target)
-    ));
-    out.push_str(&format!(
         "  convention: {}\n",
-        crate::scenario::PSD_CONVENTION
+        crate::physics::noise::PSD_CONVENTION
     ));
+}
+
+/// The planned measurement from `[procedure]`: the estimator's noise by term, the cycles a
+/// target needs, and the best phases for the same time.
+fn procedure_section(out: &mut String, f: &Findings) {
+    let Some(p) = &f.procedure else { return };
+    let pr = &p.procedure;
+    out.push_str(&format!(
+        "\nmeasurement procedure: {}, {} cycles of {} on / {} off, {} discarded after every switch; {} in all\n",
+        pr.pattern.name(),
+        pr.cycles,
+        duration(pr.on_time),
+        duration(pr.off_time),
+        duration(pr.settle_time),
+        duration(p.total_time)
+    ));
+    let t = &p.terms;
+    out.push_str(&format!(
+        "  estimator noise (the input `noise_force`): {} = white {}, flicker {}, random walk {} in quadrature; drift bias {}{}\n",
+        force_text(p.estimator_sd),
+        force_text(t.white),
+        force_text(t.flicker),
+        force_text(t.random_walk),
+        force_text(t.drift_bias.abs()),
+        if t.drift_bias == 0.0 {
+            String::new()
+        } else {
+            " (a bound: its rectangular variance bias^2/3 is in the noise; the ABA pattern cancels a linear drift)".into()
+        }
+    ));
+    out.push_str(&match p.cycles_for_target {
+        Some(n) => format!(
+            "  target resolution {}: {} of these phases ({})\n",
+            force_text(p.target_resolution),
+            cycles_text(n),
+            duration(pr.with_cycles(n).total_time())
+        ),
+        None => format!(
+            "  target resolution {}: not reached with up to {} cycles of these phases (a flicker floor, or a drift bias more cycles do not reduce)\n",
+            force_text(p.target_resolution),
+            grouped(crate::physics::procedure::MAX_CYCLES)
+        ),
+    });
+    if let Some((b, bt)) = &p.best {
+        out.push_str(&format!(
+            "  for the same {}: phases of {} on / {} off, {}, give {} (now {})\n",
+            duration(p.total_time),
+            duration(b.on_time),
+            duration(b.off_time),
+            cycles_text(b.cycles),
+            force_text(bt.standard_uncertainty()),
+            force_text(p.estimator_sd)
+        ));
+    }
 }
 
 /// The sweep from `[sweep]`.

@@ -392,7 +392,8 @@ pub(crate) fn plan_study(
             m.name
         )))
     };
-    let mut proposal = planning::propose(m, u_t, &spec, k).ok_or_else(no_budget)?;
+    let limit = |i: usize| input_limit(study, i);
+    let mut proposal = planning::propose(m, u_t, &spec, k, &limit).ok_or_else(no_budget)?;
     let mut checks = 0;
     let mut verification = findings.clone();
     let mut achieved = current;
@@ -401,17 +402,7 @@ pub(crate) fn plan_study(
         let mut s = study.clone();
         s.adaptive = None;
         s.trials = findings.trials;
-        for c in &proposal.changes {
-            if let Law::Distributed(d) = &s.inputs[c.input].law {
-                let narrowed = d.narrowed(c.factor).map_err(|e| {
-                    Error::Run(crate::error::RunError::Numerical(format!(
-                        "cannot narrow `{}` by {}: {e}",
-                        s.inputs[c.input].name, c.factor
-                    )))
-                })?;
-                s.inputs[c.input].law = Law::Distributed(narrowed);
-            }
-        }
+        apply_changes(&mut s, &mut proposal.changes)?;
         let (f, _) = run_study(&s, options)?;
         achieved = spec.express(&f.measurands[measurand].monte_carlo);
         verification = f;
@@ -419,7 +410,7 @@ pub(crate) fn plan_study(
             break;
         }
         u_t *= spec.value / achieved * 0.999;
-        let tighter = planning::propose(m, u_t, &spec, k).ok_or_else(no_budget)?;
+        let tighter = planning::propose(m, u_t, &spec, k, &limit).ok_or_else(no_budget)?;
         if tighter.changes.is_empty() {
             break;
         }
@@ -443,4 +434,60 @@ pub(crate) fn plan_study(
         checks,
         verification: Box::new(verification),
     })
+}
+
+/// The smallest standard uncertainty input `i` can reach: its `best`, or for `noise_force`
+/// under a procedure what the most cycles give (more time beyond that is not a plan); 0 when
+/// there is no limit.
+fn input_limit(study: &Study, i: usize) -> f64 {
+    let q = &study.inputs[i];
+    if q.name == "noise_force"
+        && let (Some(p), Some(floor)) = (&study.procedure, &study.noise)
+    {
+        return p
+            .with_cycles(crate::physics::procedure::MAX_CYCLES)
+            .estimator_terms(&floor.model)
+            .standard_uncertainty();
+    }
+    q.best.unwrap_or(0.0)
+}
+
+/// Apply a plan's changes to a study: narrow each input, except `noise_force`, which is reached
+/// by more cycles of the procedure (or a longer averaging time for white noise), noted in the
+/// change; then derive the forecast and the noise floor again.
+fn apply_changes(s: &mut Study, changes: &mut [planning::Change]) -> Result<(), Error> {
+    let numerical = |m: String| Error::Run(crate::error::RunError::Numerical(m));
+    for c in changes.iter_mut() {
+        let name = s.inputs[c.input].name.clone();
+        if name == "noise_force"
+            && let Some(floor) = s.noise.as_mut()
+        {
+            match s.procedure.as_mut() {
+                Some(p) => {
+                    let cycles = p
+                        .cycles_for(&floor.model, c.to)
+                        .unwrap_or(crate::physics::procedure::MAX_CYCLES);
+                    p.cycles = cycles;
+                    c.cycles = Some(cycles);
+                    c.total_time = Some(p.total_time());
+                }
+                None => {
+                    let t = crate::physics::noise::time_for_resolution(
+                        floor.density * floor.density,
+                        c.to,
+                    );
+                    floor.settings.averaging_time = Some(t);
+                    c.total_time = Some(t);
+                }
+            }
+            continue;
+        }
+        if let Law::Distributed(d) = &s.inputs[c.input].law {
+            let narrowed = d
+                .narrowed(c.factor)
+                .map_err(|e| numerical(format!("cannot narrow `{name}` by {}: {e}", c.factor)))?;
+            s.inputs[c.input].law = Law::Distributed(narrowed);
+        }
+    }
+    s.refresh().map_err(numerical)
 }

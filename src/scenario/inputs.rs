@@ -35,6 +35,9 @@ pub struct InputQuantity {
     pub(crate) shown_unit: DisplayUnit,
     /// Free text from the `note` key.
     pub(crate) note: Option<String>,
+    /// The smallest standard uncertainty the experiment can reach for it (`best`, SI), which a
+    /// plan does not go below; `None` when the scenario sets no limit.
+    pub(crate) best: Option<f64>,
     /// Where its table is in the file.
     pub(crate) span: Range<usize>,
 }
@@ -245,7 +248,7 @@ pub(crate) fn read_input(
             };
             let (family, params, example) = (spec.name, spec.params, spec.example);
             units.example = example;
-            let mut allowed: Vec<&str> = vec!["dist", "note"];
+            let mut allowed: Vec<&str> = vec!["dist", "note", "best"];
             allowed.extend(params.iter().map(|p| p.0));
             if spec.type_b_dof {
                 allowed.push("dof");
@@ -301,7 +304,25 @@ pub(crate) fn read_input(
         dimension,
         shown_unit,
         note,
+        best: None,
         span: table.span.clone(),
+    };
+    let quantity = match table.get("best") {
+        Some(e) => {
+            let example = "best = \"0.01 mm\"   (the smallest standard uncertainty reachable)";
+            let b = units.quantity(e.value, &e.path, src)?;
+            if !(b > 0.0 && b.is_finite()) {
+                return Err(e.error(
+                    format!("`best` is the smallest standard uncertainty reachable and must be greater than 0 (got {b})"),
+                    example,
+                ));
+            }
+            InputQuantity {
+                best: Some(b),
+                ..quantity
+            }
+        }
+        None => quantity,
     };
     if let Some(ci) = chain_input {
         check_domain(table, &quantity, ci)?;
@@ -438,6 +459,7 @@ pub(crate) fn input_schema() -> serde_json::Value {
         let mut props = serde_json::Map::new();
         props.insert("dist".into(), json!({"enum": names}));
         props.insert("note".into(), json!({"type": "string"}));
+        props.insert("best".into(), quantity.clone());
         let mut required = vec!["dist".to_string()];
         for (p, kind) in params.iter() {
             required.push((*p).to_string());

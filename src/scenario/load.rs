@@ -31,6 +31,8 @@ const TOP_KEYS: &[&str] = &[
     "noise",
     "sweep",
     "variants",
+    "forecast",
+    "procedure",
 ];
 
 const TOP_EXAMPLE: &str = "title = \"...\", trials = 1_000_000, seed = 7, coverage = 0.95, [model], [inputs.NAME], [measurands.NAME]";
@@ -157,14 +159,22 @@ impl<'a, 'i> Loader<'a, 'i> {
             }
         }
 
-        let inputs = self.inputs(chain.as_ref().map(|c| c.0))?;
+        let mut inputs = self.inputs(chain.as_ref().map(|c| c.0))?;
         let correlations = match top.get("correlation") {
             Some(e) => correlation::read_correlations(&e, &inputs)?,
             None => Correlations::default(),
         };
+        let forecast = match self.forecast(chain.as_ref(), &inputs)? {
+            None => None,
+            Some((forecast, observed)) => {
+                inputs.push(observed);
+                Some(forecast)
+            }
+        };
+        let procedure = self.procedure()?;
         let (mut measurands, mut model) = self.model(chain.clone(), &inputs)?;
-        let mut inputs = inputs;
-        let noise = match self.noise(chain.as_ref().map(|c| c.0), &inputs, &measurands, &model)? {
+        let kind = chain.as_ref().map(|c| c.0);
+        let noise = match self.noise(kind, &inputs, &measurands, &model, procedure.as_ref())? {
             None => None,
             Some((floor, noise_force)) => {
                 inputs.push(noise_force);
@@ -174,8 +184,16 @@ impl<'a, 'i> Loader<'a, 'i> {
         };
         let sweep = match top.get("sweep") {
             None => None,
-            Some(e) => Some(self.sweep(&e, &inputs, &measurands, chain.as_ref().map(|c| c.0))?),
+            Some(e) => Some(self.sweep(&e, &inputs, &measurands, kind)?),
         };
+        warnings.extend(planning_warnings(
+            kind,
+            &inputs,
+            forecast.as_ref(),
+            sweep.as_ref(),
+            noise.is_some(),
+            procedure.is_some(),
+        ));
         let variants = match top.get("variants") {
             None => Vec::new(),
             Some(e) => {
@@ -208,6 +226,8 @@ impl<'a, 'i> Loader<'a, 'i> {
             correlations,
             adaptive,
             noise,
+            forecast,
+            procedure,
             sweep,
             variants,
             warnings,
@@ -400,4 +420,37 @@ fn check_trials_for_coverage(e: &Entry<'_, '_>, m: u64, p: f64) -> Result<(), In
         ));
     }
     Ok(())
+}
+
+/// What a planner should know about how the scenario's parts go together: a swept design input
+/// with an observed signal held fixed, a readings input and a noise model counting the same
+/// scatter twice, a procedure without a noise model.
+fn planning_warnings(
+    chain: Option<ChainKind>,
+    inputs: &[InputQuantity],
+    forecast: Option<&super::forecast::Forecast>,
+    sweep: Option<&super::Sweep>,
+    noise: bool,
+    procedure: bool,
+) -> Vec<String> {
+    let mut out = Vec::new();
+    if let (Some(how), Some(sw), None) = (chain.and_then(|c| c.forecast()), sweep, forecast) {
+        let swept = &inputs[sw.input].name;
+        if swept != how.observed {
+            out.push(format!(
+                "the sweep moves `{swept}` while the observed `{}` is held at its given value, so each point is a different meter read with the same signal, not the same power: to see how `{swept}` changes the uncertainty of a planned meter, give [forecast] power = ... instead of [inputs.{}]",
+                how.observed, how.observed
+            ));
+        }
+    }
+    if noise && let Some(q) = inputs.iter().find(|q| q.family() == "readings") {
+        out.push(format!(
+            "`{}` is given as repeated readings, whose scatter already holds the instrument's noise, and [noise] adds that noise again as `noise_force`: the noise is counted twice unless the readings are of something else",
+            q.name
+        ));
+    }
+    if procedure && !noise {
+        out.push("[procedure] is given without [noise]: the procedure's noise is not part of the result; describe the instrument's noise in [noise]".into());
+    }
+    out
 }

@@ -8,10 +8,13 @@
 //! for messages.
 
 mod correlation;
+mod forecast;
 mod inputs;
 mod load;
 mod measurands;
 mod noise;
+mod procedure;
+mod record;
 pub(crate) mod schema;
 mod source;
 mod study;
@@ -21,9 +24,10 @@ mod variants;
 
 pub use crate::physics::noise::{NoiseSettings, PSD_CONVENTION, Target};
 pub use correlation::{CorrelatedGroup, CorrelatedPair, Correlations};
+pub use forecast::Forecast;
 pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
 pub use load::{load_file, load_str};
-pub use noise::NoiseFloor;
+pub use noise::{EstimatorPlan, MeasuredNoise, NoiseFloor};
 pub use source::{Source, edit_distance, nearest};
 pub use study::{
     Adaptive, DEFAULT_ADAPTIVE_MAX_TRIALS, DEFAULT_TRIALS, MAX_INPUTS, MAX_SCENARIO_BYTES,

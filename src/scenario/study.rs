@@ -1,8 +1,12 @@
 //! The study a scenario file describes, validated and in SI: what the engine runs and the
 //! analysis reads.
 
+use super::forecast::{Forecast, predict};
+use super::noise::{FloorInputs, noise_floor};
 use super::{Correlations, InputQuantity, Law, NoiseFloor};
+use crate::dist::{Distribution, Normal};
 use crate::model::{ChainKind, Model};
+use crate::physics::procedure::Procedure;
 use crate::units::{Dimension, DisplayUnit};
 
 /// Default number of Monte Carlo trials M (JCGM 101 7.2.2 recommends 10^6 for a 95 % interval).
@@ -60,6 +64,11 @@ pub struct Study {
     pub(crate) correlations: Correlations,
     /// The adaptive procedure of JCGM 101 7.9, when asked for (then `trials` is the batch size).
     pub adaptive: Option<Adaptive>,
+    /// The forecast, when `[forecast]` asks for one (then the observed input is a predicted
+    /// constant among the inputs).
+    pub forecast: Option<Forecast>,
+    /// The planned on/off measurement, when `[procedure]` describes one.
+    pub procedure: Option<Procedure>,
     /// The noise floor, when `[noise]` asks for one (then `noise_force` is among the inputs).
     pub noise: Option<NoiseFloor>,
     /// A sweep of one input, when `[sweep]` asks for one.
@@ -84,18 +93,84 @@ pub struct Sweep {
 impl Study {
     /// The study with input `i` moved to the estimate `value` (a constant takes the value; a
     /// distribution is moved, see `Distribution::with_mean`).
-    pub(crate) fn with_input_estimate(
-        &self,
-        i: usize,
-        value: f64,
-    ) -> Result<Study, crate::dist::ParameterError> {
+    pub(crate) fn with_input_estimate(&self, i: usize, value: f64) -> Result<Study, String> {
         let mut s = self.clone();
         s.inputs[i].law = match &self.inputs[i].law {
             Law::Constant(_) => Law::Constant(value),
-            Law::Distributed(d) => Law::Distributed(d.with_mean(value)?),
+            Law::Distributed(d) => Law::Distributed(d.with_mean(value).map_err(|e| e.to_string())?),
         };
         s.sweep = None;
+        s.refresh()?;
         Ok(s)
+    }
+
+    /// Derive again what the loader derived from the inputs, after they were moved or
+    /// narrowed: the forecast's predicted signal, and the noise floor with the standard
+    /// deviation of `noise_force` (the thermal noise depends on the balance, the target and the
+    /// shot noise on the force).
+    pub(crate) fn refresh(&mut self) -> Result<(), String> {
+        let Some(kind) = self.chain else {
+            return Ok(());
+        };
+        let spec = kind.spec();
+        if let (Some(f), Some(how)) = (&self.forecast, kind.forecast()) {
+            let inputs = &self.inputs;
+            let estimate = |name: &str| {
+                inputs
+                    .iter()
+                    .find(|q| q.name == name && q.name != how.observed)
+                    .map(InputQuantity::estimate)
+            };
+            let predicted = predict(how.observed, f.twin, f.power, &estimate)?;
+            let input = f.input;
+            self.inputs[input].law = Law::Constant(predicted);
+            if let Some(f) = self.forecast.as_mut() {
+                f.predicted = predicted;
+            }
+        }
+        if let Some(floor) = &self.noise {
+            let estimates: Vec<f64> = self.inputs.iter().map(InputQuantity::estimate).collect();
+            let values = self.model.evaluate_point::<f64>(&estimates);
+            let inputs = &self.inputs;
+            let value_of = |name: &str| -> Option<f64> {
+                match inputs.iter().find(|q| q.name == name) {
+                    Some(q) => Some(q.estimate()),
+                    None => spec
+                        .inputs
+                        .iter()
+                        .find(|c| c.name == name)
+                        .and_then(|c| c.default),
+                }
+            };
+            let measurand = |name: &str| {
+                self.measurands
+                    .iter()
+                    .position(|m| m.name == name)
+                    .map(|i| values[i])
+            };
+            let force = measurand("force").unwrap_or(f64::NAN);
+            let power = measurand("power")
+                .or_else(|| value_of("power"))
+                .unwrap_or(f64::NAN);
+            let new = noise_floor(
+                &floor.settings,
+                floor.measured.as_ref(),
+                &FloorInputs {
+                    chain: kind,
+                    estimate: &value_of,
+                    force,
+                    power,
+                    procedure: self.procedure.as_ref(),
+                },
+            )
+            .map_err(|(message, _)| message)?;
+            let normal = Normal::new(0.0, new.resolution).map_err(|e| e.to_string())?;
+            if let Some(q) = self.inputs.iter_mut().find(|q| q.name == "noise_force") {
+                q.law = Law::Distributed(Distribution::Normal(normal));
+            }
+            self.noise = Some(new);
+        }
+        Ok(())
     }
 
     /// The measurands' names, comma-separated, for messages that list the valid ones.

@@ -23,7 +23,15 @@ pub(crate) fn load_designs(path: &Path) -> Result<Vec<(String, Study)>, InputErr
     Ok(out)
 }
 
-const VARIANT_KEYS: &[&str] = &["title", "model", "inputs", "drop", "noise"];
+const VARIANT_KEYS: &[&str] = &[
+    "title",
+    "model",
+    "inputs",
+    "drop",
+    "noise",
+    "forecast",
+    "procedure",
+];
 const VARIANT_EXAMPLE: &str = "[variants.heavier_bob]\ntitle = \"Heavier bob\"\ndrop = [\"stray_force\"]\n[variants.heavier_bob.inputs.moment_of_inertia]\nvalue = \"6e-4 kg m^2\"";
 
 /// The variants of scenario text: each is the base scenario with its `model`, `noise`, `title`
@@ -58,7 +66,7 @@ pub(crate) fn load_variants_str(
         vt.check_keys(VARIANT_KEYS, VARIANT_EXAMPLE)?;
         let mut map = base.clone();
         map.remove("variants");
-        for key in ["title", "model", "noise"] {
+        for key in ["title", "model", "noise", "forecast", "procedure"] {
             if let Some((k, val)) = vt.map.get_key_value(key) {
                 map.insert(k.clone(), val.clone());
             }

@@ -3,8 +3,10 @@
 //! machine, with or without system fonts. Every chart is written once, generic over the plotters
 //! backend.
 
+mod allan;
 mod comparison;
 mod distributions;
+mod procedure;
 mod sensitivity;
 mod sweep;
 
@@ -196,7 +198,24 @@ pub(crate) fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, Str
             ),
         ));
     }
+    if f.noise.as_ref().is_some_and(|n| n.measured.is_some()) {
+        out.push((
+            format!("allan-deviation.{}", format.extension()),
+            "Allan deviation of the instrument's noise: measured, with the fitted model".into(),
+        ));
+    }
+    if f.procedure.as_ref().is_some_and(|p| p.record.is_some()) {
+        out.push((
+            file_name("procedure", f.chain.unwrap_or("model"), format),
+            "One simulated record of the planned on/off sequence".into(),
+        ));
+    }
     out
+}
+
+/// The unit figures show a force in: a readable prefix for `size` newtons.
+fn force_unit(size: f64) -> crate::units::DisplayUnit {
+    crate::units::readable_unit(crate::units::Dimension::FORCE, size)
 }
 
 /// Every figure of a run's findings.
@@ -238,6 +257,34 @@ pub(crate) fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, S
     }
     if let Some(sw) = &f.sweep {
         push(chart!(format, (720, 480), |a| sweep::draw(a, f, sw))?);
+    }
+    if let Some(n) = &f.noise
+        && let Some(meas) = &n.measured
+    {
+        let u = force_unit(meas.points.iter().map(|p| p.1).fold(0.0, f64::max));
+        push(chart!(format, (760, 500), |a| allan::draw(
+            a, meas, &n.model, &u.symbol, u.factor
+        ))?);
+    }
+    if let Some(p) = &f.procedure
+        && let Some(r) = &p.record
+    {
+        let size = r.values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let u = force_unit(size);
+        let noise_size = r
+            .values
+            .iter()
+            .zip(&r.signal)
+            .fold(0.0f64, |m, (v, s)| m.max((v - s).abs()));
+        let nu = force_unit(noise_size);
+        let title = format!(
+            "{} pattern, {} cycles: one simulated record",
+            p.procedure.pattern.name(),
+            p.procedure.cycles
+        );
+        push(chart!(format, (900, 640), |a| procedure::draw(
+            a, &title, r, &u.symbol, u.factor, &nu.symbol, nu.factor
+        ))?);
     }
     Ok(out)
 }

@@ -4,9 +4,12 @@
 //! finite is never written as a number: fields documented as nullable are `null`, any other
 //! non-finite value is an error ([`check_numbers`]).
 
+mod decisions;
+mod planning;
+
 use super::cautions::cautions;
 use super::{Context, Exporter, Report};
-use crate::analysis::planning::{Comparison, PlanFinding};
+pub(crate) use decisions::{comparison_json, plan_json};
 use crate::analysis::{Findings, MeasurandFinding};
 use serde::Serialize;
 use serde_json::{Map, Value};
@@ -15,9 +18,9 @@ use serde_json::{Map, Value};
 pub(crate) struct JsonReport;
 
 /// An interval [low, high].
-type Pair = [f64; 2];
+pub(super) type Pair = [f64; 2];
 
-fn pair(p: (f64, f64), k: f64) -> Pair {
+pub(super) fn pair(p: (f64, f64), k: f64) -> Pair {
     [p.0 / k, p.1 / k]
 }
 
@@ -44,7 +47,11 @@ pub(crate) struct RunJson<'a> {
     warnings: &'a [String],
     cautions: Vec<&'static str>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    noise: Option<NoiseJson<'a>>,
+    noise: Option<planning::NoiseJson<'a>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    forecast: Option<planning::ForecastJson<'a>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    procedure: Option<planning::ProcedureJson>,
     #[serde(skip_serializing_if = "Option::is_none")]
     sweep: Option<SweepJson<'a>>,
     variants: &'a [String],
@@ -155,24 +162,6 @@ struct InputCorrelationJson<'a> {
     between: [&'a str; 2],
     coefficient: f64,
     achieved: Option<f64>,
-}
-
-#[derive(Serialize)]
-struct NoiseJson<'a> {
-    components: Vec<NoiseComponentJson>,
-    force_density: f64,
-    averaging_time: f64,
-    force_resolution: f64,
-    radiation_force: f64,
-    target_resolution: f64,
-    time_for_target: f64,
-    convention: &'a str,
-}
-
-#[derive(Serialize)]
-struct NoiseComponentJson {
-    source: &'static str,
-    force_density: f64,
 }
 
 #[derive(Serialize)]
@@ -358,23 +347,9 @@ pub(crate) fn run_json(f: &Findings) -> RunJson<'_> {
             .collect(),
         warnings: &f.warnings,
         cautions: cautions(f.laser),
-        noise: f.noise.as_ref().map(|n| NoiseJson {
-            components: n
-                .components
-                .iter()
-                .map(|(source, d)| NoiseComponentJson {
-                    source,
-                    force_density: *d,
-                })
-                .collect(),
-            force_density: n.density,
-            averaging_time: n.averaging_time,
-            force_resolution: n.resolution,
-            radiation_force: n.force,
-            target_resolution: n.target_resolution,
-            time_for_target: n.time_for_target,
-            convention: crate::physics::noise::PSD_CONVENTION,
-        }),
+        noise: planning::noise_json(f),
+        forecast: planning::forecast_json(f),
+        procedure: planning::procedure_json(f),
         sweep: f.sweep.as_ref().map(|sw| {
             let m = &f.measurands[sw.measurand];
             let k = m.unit.factor;
@@ -419,185 +394,6 @@ pub(crate) fn run_json(f: &Findings) -> RunJson<'_> {
     }
 }
 
-/// The JSON of a comparison: `comparison` rows as DESIGN's issue fixes them, with more fields.
-#[derive(Serialize)]
-pub(crate) struct ComparisonJson<'a> {
-    comparison: Vec<ComparisonRowJson<'a>>,
-    trials: u64,
-    seed: u64,
-    coverage_probability: f64,
-    generator: String,
-    radforce_version: &'static str,
-    cautions: Vec<&'static str>,
-}
-
-#[derive(Serialize)]
-struct ComparisonRowJson<'a> {
-    name: &'a str,
-    measurand: &'a str,
-    unit: &'a str,
-    estimate: f64,
-    standard_uncertainty: f64,
-    relative_standard_uncertainty: Option<f64>,
-    expanded_uncertainty: f64,
-    relative_expanded_uncertainty: f64,
-    symmetric_interval: Pair,
-    top_contributors: Vec<TopJson<'a>>,
-    noise_force_resolution: Option<f64>,
-    averaging_time_for_target: Option<f64>,
-    scenario: &'a str,
-    rank: usize,
-}
-
-#[derive(Serialize)]
-struct TopJson<'a> {
-    input: &'a str,
-    share: f64,
-}
-
-/// The JSON of a comparison, as typed data.
-pub(crate) fn comparison_json(c: &Comparison) -> ComparisonJson<'_> {
-    ComparisonJson {
-        comparison: c
-            .rows
-            .iter()
-            .map(|r| {
-                let m = &r.findings.measurands[r.measurand];
-                let k = m.unit.factor;
-                let s = &r.summary;
-                ComparisonRowJson {
-                    name: &r.name,
-                    measurand: &m.name,
-                    unit: &m.unit.symbol,
-                    estimate: s.estimate / k,
-                    standard_uncertainty: s.standard_uncertainty / k,
-                    relative_standard_uncertainty: s.relative_standard_uncertainty(),
-                    expanded_uncertainty: s.expanded_uncertainty / k,
-                    relative_expanded_uncertainty: r.relative_expanded_uncertainty,
-                    symmetric_interval: pair(s.symmetric_interval, k),
-                    top_contributors: r
-                        .top
-                        .iter()
-                        .map(|(n, sh)| TopJson {
-                            input: n,
-                            share: *sh,
-                        })
-                        .collect(),
-                    noise_force_resolution: r.findings.noise.as_ref().map(|n| n.resolution),
-                    averaging_time_for_target: r
-                        .findings
-                        .noise
-                        .as_ref()
-                        .map(|n| n.time_for_target),
-                    scenario: &r.findings.file,
-                    rank: r.rank,
-                }
-            })
-            .collect(),
-        trials: c.trials,
-        seed: c.seed,
-        coverage_probability: c.coverage,
-        generator: crate::engine::generator_description(),
-        radforce_version: env!("CARGO_PKG_VERSION"),
-        cautions: cautions(c.rows.iter().any(|r| r.findings.laser)),
-    }
-}
-
-/// The JSON of a plan: `plan` {`measurand`, `target`, `achieved`, `changes`} in the terms the
-/// user asked for, with more fields.
-#[derive(Serialize)]
-pub(crate) struct PlanJson<'a> {
-    plan: PlanBodyJson<'a>,
-    trials: u64,
-    seed: u64,
-    coverage_probability: f64,
-    radforce_version: &'static str,
-    cautions: Vec<&'static str>,
-}
-
-#[derive(Serialize)]
-struct PlanBodyJson<'a> {
-    measurand: &'a str,
-    unit: &'a str,
-    target: f64,
-    achieved: f64,
-    current: f64,
-    relative: bool,
-    expanded: bool,
-    met: bool,
-    changes: Vec<ChangeJson<'a>>,
-    alone: Vec<AloneJson<'a>>,
-    explanation: &'a str,
-    checking_runs: usize,
-}
-
-#[derive(Serialize)]
-struct ChangeJson<'a> {
-    input: &'a str,
-    unit: &'a str,
-    from: f64,
-    to: f64,
-    factor: f64,
-}
-
-#[derive(Serialize)]
-struct AloneJson<'a> {
-    input: &'a str,
-    current: f64,
-    needed: Option<f64>,
-    floor: f64,
-}
-
-/// The JSON of a plan, as typed data.
-pub(crate) fn plan_json(p: &PlanFinding) -> PlanJson<'_> {
-    let f = &p.verification;
-    let m = &f.measurands[p.measurand];
-    // A relative target is a pure number; an absolute one is shown in the measurand's unit.
-    let shown = |v: f64| if p.spec.relative { v } else { v / m.unit.factor };
-    PlanJson {
-        plan: PlanBodyJson {
-            measurand: &m.name,
-            unit: if p.spec.relative { "" } else { &m.unit.symbol },
-            target: shown(p.spec.value),
-            achieved: shown(p.achieved),
-            current: shown(p.current),
-            relative: p.spec.relative,
-            expanded: p.spec.expanded,
-            met: p.met,
-            changes: p
-                .proposal
-                .changes
-                .iter()
-                .map(|c| ChangeJson {
-                    input: &f.inputs[c.input].name,
-                    unit: &f.inputs[c.input].si_unit,
-                    from: c.from,
-                    to: c.to,
-                    factor: c.factor,
-                })
-                .collect(),
-            alone: p
-                .proposal
-                .alone
-                .iter()
-                .map(|a| AloneJson {
-                    input: &f.inputs[a.input].name,
-                    current: a.current,
-                    needed: a.needed,
-                    floor: a.floor,
-                })
-                .collect(),
-            explanation: &p.proposal.explanation,
-            checking_runs: p.checks,
-        },
-        trials: f.trials,
-        seed: f.seed,
-        coverage_probability: f.coverage,
-        radforce_version: env!("CARGO_PKG_VERSION"),
-        cautions: cautions(f.laser),
-    }
-}
-
 /// The report as a JSON value (non-finite numbers become `null`, to be checked).
 pub fn report_value(report: &Report<'_>) -> Value {
     let value = match report {
@@ -630,6 +426,15 @@ const NULLABLE: &[&str] = &[
     "noise_force_resolution",
     "averaging_time_for_target",
     "needed",
+    "averaging_time",
+    "time_for_target",
+    "measured",
+    "interval",
+    "cycles_for_target",
+    "cycles",
+    "total_time",
+    "floor",
+    "best_phase",
 ];
 
 /// Check that no number was lost: every null sits in a nullable field.
