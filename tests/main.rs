@@ -13,6 +13,7 @@ mod designs;
 mod determinism;
 mod distributions;
 mod exports;
+mod forecast;
 mod generated;
 mod gum;
 mod nothing_lost;

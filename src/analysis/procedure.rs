@@ -4,7 +4,7 @@
 
 use crate::physics::power_law::simulate_record;
 use crate::physics::procedure::{EstimatorTerms, Procedure};
-use crate::scenario::{EstimatorPlan, Study};
+use crate::scenario::Study;
 use crate::units::DisplayUnit;
 
 /// A forecast's power and the signal it predicts.
@@ -79,11 +79,9 @@ pub fn forecast_finding(study: &Study) -> Option<ForecastFinding> {
 pub fn procedure_finding(study: &Study) -> Option<ProcedureFinding> {
     let p = study.procedure?;
     let floor = study.noise.as_ref()?;
-    let EstimatorPlan {
-        terms,
-        cycles_for_target,
-        best,
-    } = floor.estimator.clone()?;
+    let terms = floor.estimator?;
+    let cycles_for_target = p.cycles_for(&floor.model, floor.target_resolution);
+    let best = p.best_phases(&floor.model);
     Some(ProcedureFinding {
         procedure: p,
         total_time: p.total_time(),

@@ -272,6 +272,14 @@ impl Procedure {
 /// 10^6 cycles a procedure is not a plan).
 pub const MAX_CYCLES: u64 = 1_000_000;
 
+/// The most cycles the search for the best phases tries (phases of a ten-thousandth of the
+/// total time).
+pub const MAX_SEARCH_CYCLES: u64 = 10_000;
+
+/// A doubling of the cycles that improves the uncertainty by less than this factor means a
+/// floor (flicker, or a drift bias) that more cycles will not pass.
+const FLOOR_RATIO: f64 = 0.98;
+
 impl Procedure {
     /// The same procedure with `cycles` cycles.
     pub fn with_cycles(&self, cycles: u64) -> Procedure {
@@ -281,8 +289,8 @@ impl Procedure {
     /// The fewest cycles (the phases unchanged) whose estimator standard uncertainty
     /// ([`EstimatorTerms::standard_uncertainty`]) is at most `target`, searched by doubling then
     /// bisection (the uncertainty falls with the number of cycles); `None` when even
-    /// [`MAX_CYCLES`] cycles do not reach it (a flicker floor, or a drift bias that more cycles
-    /// do not reduce).
+    /// [`MAX_CYCLES`] cycles do not reach it, or when a doubling improves it by less than 2 %
+    /// (a flicker floor, or a drift bias that more cycles do not reduce).
     pub fn cycles_for(&self, model: &NoiseModel, target: f64) -> Option<u64> {
         let u = |n: u64| {
             self.with_cycles(n)
@@ -293,11 +301,17 @@ impl Procedure {
             return None;
         }
         let mut hi = 1u64;
-        while u(hi) > target {
+        let mut at = u(hi);
+        while at > target {
             if hi >= MAX_CYCLES {
                 return None;
             }
             hi = (hi * 2).min(MAX_CYCLES);
+            let next = u(hi);
+            if next > FLOOR_RATIO * at && next > target {
+                return None;
+            }
+            at = next;
         }
         let mut lo = hi / 2; // u(lo) > target, or lo = 0
         while hi - lo > 1 {
@@ -314,9 +328,9 @@ impl Procedure {
     /// For the same total time, the phase lengths (on and off in their ratio, the settling
     /// kept) and number of cycles that give the smallest estimator standard uncertainty: flicker
     /// and random walk make long phases costly, white noise and the settling make short ones
-    /// wasteful. A search over whole numbers of cycles: a geometric grid (ratio 1.1), then every
-    /// count around the best. `None` when no other count fits (phases no longer than the
-    /// settling).
+    /// wasteful. A search over whole numbers of cycles up to [`MAX_SEARCH_CYCLES`]: a geometric
+    /// grid (ratio 1.1), then a ternary search between the best point's neighbours on the grid.
+    /// `None` when no count fits (phases no longer than the settling).
     pub fn best_phases(&self, model: &NoiseModel) -> Option<(Procedure, EstimatorTerms)> {
         let total = self.total_time();
         let ratio = self.on_time / self.off_time;
@@ -348,14 +362,33 @@ impl Procedure {
                 *best = Some(c);
             }
         };
+        let mut grid = Vec::new();
         let mut n = 1.0f64;
-        while (n as u64) <= MAX_CYCLES && with_count(n as u64).is_some() {
-            consider(n as u64, &mut best);
+        while (n as u64) <= MAX_SEARCH_CYCLES && with_count(n as u64).is_some() {
+            grid.push(n as u64);
             n = (n * 1.1).max(n + 1.0);
         }
+        for &g in &grid {
+            consider(g, &mut best);
+        }
         let centre = best.as_ref()?.0.cycles;
-        let span = (centre / 10).max(2);
-        for k in centre.saturating_sub(span).max(1)..=centre + span {
+        let at = grid.iter().position(|g| *g == centre).unwrap_or(0);
+        let (mut lo, mut hi) = (
+            grid[at.saturating_sub(1)],
+            grid[(at + 1).min(grid.len() - 1)],
+        );
+        // Ternary search on whole numbers (the uncertainty is unimodal in the count).
+        let value = |k: u64| score(k).map_or(f64::INFINITY, |c| c.2);
+        while hi - lo > 2 {
+            let m1 = lo + (hi - lo) / 3;
+            let m2 = hi - (hi - lo) / 3;
+            if value(m1) <= value(m2) {
+                hi = m2;
+            } else {
+                lo = m1;
+            }
+        }
+        for k in lo..=hi {
             consider(k, &mut best);
         }
         best.map(|(p, t, _)| (p, t))

@@ -27,7 +27,7 @@ pub use correlation::{CorrelatedGroup, CorrelatedPair, Correlations};
 pub use forecast::Forecast;
 pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
 pub use load::{load_file, load_str};
-pub use noise::{EstimatorPlan, MeasuredNoise, NoiseFloor};
+pub use noise::{MeasuredNoise, NoiseFloor};
 pub use source::{Source, edit_distance, nearest};
 pub use study::{
     Adaptive, DEFAULT_ADAPTIVE_MAX_TRIALS, DEFAULT_TRIALS, MAX_INPUTS, MAX_SCENARIO_BYTES,

@@ -42,17 +42,6 @@ pub struct MeasuredNoise {
     pub(crate) fit: AllanFit,
 }
 
-/// How the procedure does under the noise.
-#[derive(Clone, Debug, PartialEq)]
-pub struct EstimatorPlan {
-    /// The estimator's standard deviation by term and the drift bias.
-    pub(crate) terms: EstimatorTerms,
-    /// The fewest cycles (same phases) that reach the target resolution, if any do.
-    pub(crate) cycles_for_target: Option<u64>,
-    /// For the same total time, the phases that give the smallest uncertainty.
-    pub(crate) best: Option<(Procedure, EstimatorTerms)>,
-}
-
 /// The noise floor at the input estimates.
 #[derive(Clone, Debug, PartialEq)]
 pub struct NoiseFloor {
@@ -74,8 +63,9 @@ pub struct NoiseFloor {
     pub target_resolution: f64,
     /// The averaging time that reaches it, s (white noise without a procedure).
     pub time_for_target: Option<f64>,
-    /// The estimator of the procedure, when there is one.
-    pub estimator: Option<EstimatorPlan>,
+    /// The procedure's estimator: its standard deviation by term and the drift bias, when
+    /// there is a procedure.
+    pub estimator: Option<EstimatorTerms>,
     /// What `[noise]` asked for (kept to compute the floor again at a sweep point).
     pub settings: NoiseSettings,
 }
@@ -389,12 +379,7 @@ pub(crate) fn noise_floor(
         }
         (Some(p), None) => {
             let terms = p.estimator_terms(&model);
-            let plan = EstimatorPlan {
-                terms,
-                cycles_for_target: p.cycles_for(&model, target_resolution),
-                best: p.best_phases(&model),
-            };
-            (terms.standard_uncertainty(), None, Some(plan))
+            (terms.standard_uncertainty(), None, Some(terms))
         }
         (None, Some(t)) => {
             if model.flicker + model.random_walk + model.drift > 0.0 {

@@ -320,8 +320,10 @@ pub(crate) fn recorded_series(
             RECORD_EXAMPLE,
         ));
     }
-    let n = times.len();
-    let dt = (times[n - 1].0 - times[0].0) / (n - 1) as f64;
+    // The nominal step is the median step, so that one gap stands out against it.
+    let mut steps: Vec<f64> = times.windows(2).map(|w| w[1].0 - w[0].0).collect();
+    steps.sort_by(f64::total_cmp);
+    let dt = steps[steps.len() / 2];
     for w in times.windows(2) {
         let step = w[1].0 - w[0].0;
         if step <= 0.0 {
@@ -343,7 +345,7 @@ pub(crate) fn recorded_series(
                 line_text(w[1].1),
                 time_col,
                 format!(
-                    "row {}: a step of {step} s where the record's mean step is {dt} s (a gap, or uneven sampling beyond {} %); the Allan deviation needs evenly spaced values",
+                    "row {}: a step of {step} s where the record's usual step is {dt} s (a gap, or uneven sampling beyond {} %); the Allan deviation needs evenly spaced values",
                     w[1].1,
                     100.0 * SAMPLING_TOLERANCE
                 ),
