@@ -43,6 +43,8 @@ impl Dimension {
     pub(crate) const MOMENT_OF_INERTIA: Dimension = Dimension([2, 1, 0, 0, 0, 0, 0, 0]);
     /// Acceleration, m s^-2.
     pub(crate) const ACCELERATION: Dimension = Dimension([1, 0, -2, 0, 0, 0, 0, 0]);
+    /// Force per power, N/W = s/m (a heating force per watt absorbed).
+    pub(crate) const FORCE_PER_POWER: Dimension = Dimension([-1, 0, 1, 0, 0, 0, 0, 0]);
 
     /// This dimension divided by another (force per time, ...).
     pub(crate) fn per(self, other: Dimension) -> Dimension {

@@ -12,6 +12,7 @@ mod coverage;
 mod designs;
 mod determinism;
 mod distributions;
+mod dynamics;
 mod exports;
 mod forecast;
 mod generated;

@@ -363,6 +363,10 @@ pub(crate) fn findings_from(
             a.digits
         ));
     }
+    let procedure = procedure::procedure_finding(study);
+    if let Some(r) = procedure.as_ref().and_then(|p| p.ring_down.as_ref()) {
+        warnings.push(procedure::ring_down_warning(r));
+    }
     Findings {
         file: study.file.clone(),
         title: study.title.clone(),
@@ -390,7 +394,7 @@ pub(crate) fn findings_from(
         sensitivity: None,
         noise: study.noise.clone(),
         forecast: procedure::forecast_finding(study),
-        procedure: procedure::procedure_finding(study),
+        procedure,
         sweep: None,
         variants: study.variants.clone(),
         warnings,

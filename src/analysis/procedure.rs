@@ -2,8 +2,12 @@
 //! procedure with its estimator's noise by term, the cycles a target needs, the best phases for
 //! the same time, and one simulated record of the sequence for a figure.
 
+use crate::model::InputValues;
 use crate::physics::power_law::simulate_record;
 use crate::physics::procedure::{EstimatorTerms, Procedure};
+use crate::physics::response::{
+    Instrument, settling_factor as settling_factor_of, window_transients,
+};
 use crate::scenario::Study;
 use crate::units::DisplayUnit;
 
@@ -47,8 +51,14 @@ pub struct ProcedureFinding {
     /// as a rectangular bound).
     pub(crate) estimator_sd: f64,
     /// The fraction of a unit force step that the windows see (1 for an instrument that
-    /// follows the force at once).
+    /// follows the force at once), at the estimates.
     pub(crate) settling_factor: f64,
+    /// The same for the heating force, after its lag.
+    pub(crate) heating_settling_factor: f64,
+    /// A pendulum's ring-down: the largest mean of the transient over a kept window, N (the
+    /// radiation force times the unit pattern's transient), when it is above a tenth of the
+    /// estimator's noise; with what would help.
+    pub(crate) ring_down: Option<RingDown>,
     /// The target force resolution, N.
     pub(crate) target_resolution: f64,
     /// The fewest cycles of the same phases that reach it.
@@ -57,6 +67,21 @@ pub struct ProcedureFinding {
     pub(crate) best: Option<(Procedure, EstimatorTerms)>,
     /// One simulated record, for the figure.
     pub(crate) record: Option<SimulatedRecord>,
+}
+
+/// A pendulum that still rings in the kept windows, and what would help.
+#[derive(Clone, Debug, PartialEq)]
+pub struct RingDown {
+    /// The largest window mean of the transient, N.
+    pub(crate) residual: f64,
+    /// The estimator's noise it is compared with, N.
+    pub(crate) noise: f64,
+    /// The settling time that brings it below a tenth of the noise, s.
+    pub(crate) settle_needed: f64,
+    /// The free period, s (phases of a whole number of periods average a ringing out).
+    pub(crate) period: f64,
+    /// The quality factor that would damp it below a tenth of the noise within the settling.
+    pub(crate) quality_needed: f64,
 }
 
 /// Most samples of a simulated record (enough for a figure).
@@ -81,18 +106,123 @@ pub fn procedure_finding(study: &Study) -> Option<ProcedureFinding> {
     let floor = study.noise.as_ref()?;
     let terms = floor.estimator?;
     let cycles_for_target = p.cycles_for(&floor.model, floor.target_resolution);
-    let best = p.best_phases(&floor.model);
+    let no_upper = |_: &str| None;
+    let estimate = |n: &str| study.estimate_of(n);
+    let inputs = InputValues {
+        estimate: &estimate,
+        upper: &no_upper,
+    };
+    let instrument = study
+        .chain
+        .map_or(Instrument::Immediate, |c| c.instrument(&inputs));
+    let heating_time = study.estimate_of("heating_time").unwrap_or(0.0);
+    let modes = instrument.modes();
+    let settling_factor = settling_factor_of(&p, &modes);
+    let heating_settling_factor = settling_factor_of(&p, &instrument.modes_after_lag(heating_time));
+    let ring_down = ring_down(&p, &instrument, floor.force, terms.standard_uncertainty());
+    // The phase search respects the pendulum: no candidate whose ring-down the windows see.
+    let best = p.best_phases_where(&floor.model, &|c: &Procedure| {
+        let noise = c.estimator_terms(&floor.model).standard_uncertainty();
+        self::ring_down(c, &instrument, floor.force, noise).is_none()
+    });
     Some(ProcedureFinding {
         procedure: p,
         total_time: p.total_time(),
         terms,
         estimator_sd: terms.standard_uncertainty(),
-        settling_factor: 1.0,
+        settling_factor,
+        heating_settling_factor,
+        ring_down,
         target_resolution: floor.target_resolution,
         cycles_for_target,
         best,
         record: simulated_record(&p, floor, study.seed),
     })
+}
+
+/// A pendulum's ring-down in the kept windows, when its largest window mean is above a tenth of
+/// the estimator's noise: the residual, and the settling time, the phase length (a whole number
+/// of periods) and the quality factor that would bring it below.
+fn ring_down(
+    p: &Procedure,
+    instrument: &Instrument<f64>,
+    force: f64,
+    noise: f64,
+) -> Option<RingDown> {
+    let Instrument::Oscillator {
+        period,
+        quality_factor,
+    } = *instrument
+    else {
+        return None;
+    };
+    let modes = instrument.modes();
+    let residual = window_transients(p, &modes)
+        .iter()
+        .fold(0.0f64, |m, t| m.max(t.abs()))
+        * force.abs();
+    if residual.is_nan() || residual <= 0.1 * noise {
+        return None;
+    }
+    let gamma = -modes[0].pole.re;
+    let ratio = residual / (0.1 * noise);
+    let settle_needed = if gamma > 0.0 {
+        p.settle_time + ratio.ln() / gamma
+    } else {
+        f64::INFINITY
+    };
+    // The damping rate that makes e^{-gamma settle} small enough for the same amplitude.
+    let amplitude = 2.0 * force.abs();
+    let w0 = 2.0 * std::f64::consts::PI / period;
+    let gamma_needed = (amplitude / (0.1 * noise)).ln() / p.settle_time.max(f64::MIN_POSITIVE);
+    let quality_needed = (w0 / (2.0 * gamma_needed)).min(quality_factor);
+    Some(RingDown {
+        residual,
+        noise,
+        settle_needed,
+        period,
+        quality_needed,
+    })
+}
+
+/// The warning of a ring-down, in words (forces in readable units).
+pub(crate) fn ring_down_warning(r: &RingDown) -> String {
+    let force = |x: f64| {
+        let u = crate::units::readable_unit(crate::units::Dimension::FORCE, x.abs());
+        format!("{:.3} {}", x / u.factor, u.symbol)
+    };
+    let settle = if r.settle_needed.is_finite() {
+        let t = r.settle_needed;
+        let (v, unit) = if t > 7200.0 {
+            (t / 3600.0, "h")
+        } else if t > 120.0 {
+            (t / 60.0, "min")
+        } else {
+            (t, "s")
+        };
+        format!(
+            "a settle_time of about {v:.3} {unit} (the transient then falls below a tenth of the noise)"
+        )
+    } else {
+        "a settle_time long enough for the swing to die out (undamped, it never does)".into()
+    };
+    let damping = if r.quality_needed < 0.5 {
+        format!(
+            "or damping the pendulum beyond critical (Q of about {:.2}, below 1/2), so that it creeps instead of swinging",
+            r.quality_needed
+        )
+    } else {
+        format!(
+            "or damping the pendulum to Q of about {:.3} or less",
+            r.quality_needed
+        )
+    };
+    format!(
+        "the pendulum still rings in the kept windows: up to {} of transient in a window's mean, more than a tenth of the estimator's noise ({}); the settling factor corrects it only as well as the free period and the quality factor are known. What helps: {settle}; phases a whole number of periods long (T0 = {:.4} s), whose windows average a swing out; {damping}",
+        force(r.residual),
+        force(r.noise),
+        r.period
+    )
 }
 
 /// One record of the sequence: the force step (the radiation force at the estimates while the

@@ -5,6 +5,8 @@
 
 use crate::physics::beam::{aperture_radius_for_fraction, gaussian_aperture_fraction};
 use crate::physics::noise::NoiseSettings;
+use crate::physics::procedure::Procedure;
+use crate::physics::response::{Instrument, settling_factor};
 use crate::scalar::Scalar;
 use crate::units::Dimension;
 
@@ -106,6 +108,49 @@ pub(crate) const MIRROR_AND_BEAM_INPUTS: [ChainInput; 6] = [
         "diffuse (Lambertian) reflectance Rd (default 0)",
     ),
 ];
+
+/// The heating of the sensed mirror, which every chain takes after the noise: the force the
+/// balance shows per watt absorbed on the sensed mirror, and its first-order time constant.
+pub const HEATING_INPUTS: [ChainInput; 2] = [
+    input(
+        "heating_force",
+        Dimension::FORCE_PER_POWER,
+        Some(0.0),
+        Domain::Any,
+        "force on the balance per watt absorbed on the sensed mirror (warm air and mount), default 0",
+    ),
+    input(
+        "heating_time",
+        Dimension::TIME,
+        Some(0.0),
+        Domain::Positive,
+        "first-order time constant of the heating force (default: none, it follows at once)",
+    ),
+];
+
+/// What a chain's evaluation needs besides its inputs: the planned measurement, whose
+/// estimator sees the instrument's response (the settling factor).
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct ChainContext {
+    /// The on/off procedure, if the scenario plans one.
+    pub procedure: Option<Procedure>,
+}
+
+impl ChainContext {
+    /// The settling factors of the radiation force and of the heating force (after its lag)
+    /// for an instrument: the estimator applied to their responses to a unit on/off pattern
+    /// (physics::response); both 1 without a procedure (a static reading).
+    #[inline]
+    pub fn settling<T: Scalar>(&self, instrument: Instrument<T>, heating_time: T) -> (T, T) {
+        match &self.procedure {
+            None => (T::cst(1.0), T::cst(1.0)),
+            Some(p) => (
+                settling_factor(p, &instrument.modes()),
+                settling_factor(p, &instrument.modes_after_lag(heating_time)),
+            ),
+        }
+    }
+}
 
 /// The input `[noise]` makes, which every chain adds to its force.
 pub(crate) const NOISE_FORCE_INPUT: ChainInput = input(
@@ -222,9 +267,16 @@ pub(crate) trait Chain {
     const FORECAST: Option<Forecastable> = None;
 
     /// Evaluate one trial: `args` in the order of `SPEC.inputs`, results into `out` in the order
-    /// of `SPEC.measurands`. A pure function, generic over the model's number type so that the
-    /// law of propagation differentiates it exactly.
-    fn evaluate<T: Scalar>(args: &[T], out: &mut [T]);
+    /// of `SPEC.measurands`, under the scenario's `context` (its procedure). A pure function,
+    /// generic over the model's number type so that the law of propagation differentiates it
+    /// exactly.
+    fn evaluate<T: Scalar>(context: &ChainContext, args: &[T], out: &mut [T]);
+
+    /// How the instrument follows a force, at the inputs' estimates (for the report's settling
+    /// factor and ring-down check); by default at once.
+    fn instrument(_inputs: &InputValues<'_>) -> Instrument<f64> {
+        Instrument::Immediate
+    }
 
     /// The white force-noise densities (N/sqrt(Hz)) of the chain's own instrument that `[noise]`
     /// describes (thermal noise of a pendulum, its readout), at the input estimates, each with

@@ -9,7 +9,9 @@
 pub mod chain;
 pub mod formula;
 
-pub(crate) use chain::{Chain, ChainInput, ChainIssue, ChainSpec, Domain, InputValues};
+pub(crate) use chain::{
+    Chain, ChainContext, ChainInput, ChainIssue, ChainSpec, Domain, InputValues,
+};
 
 use crate::physics::noise::NoiseSettings;
 use crate::scalar::Scalar;
@@ -62,12 +64,22 @@ macro_rules! chains {
 
             /// Evaluate the chain once: `args` in the order of its inputs; its measurands in
             /// order.
-            pub fn evaluate_point(self, args: &[f64]) -> Vec<f64> {
+            pub fn evaluate_point(self, context: &ChainContext, args: &[f64]) -> Vec<f64> {
                 let mut out = vec![0.0; self.spec().measurands.len()];
                 match self {
-                    $($(ChainKind::$variant => <$module::$ty as Chain>::evaluate(args, &mut out),)*)*
+                    $($(ChainKind::$variant => <$module::$ty as Chain>::evaluate(context, args, &mut out),)*)*
                 }
                 out
+            }
+
+            /// How the instrument follows a force at the estimates (see [`Chain::instrument`]).
+            pub fn instrument(
+                self,
+                inputs: &InputValues<'_>,
+            ) -> crate::physics::response::Instrument<f64> {
+                match self {
+                    $($(ChainKind::$variant => <$module::$ty as Chain>::instrument(inputs),)*)*
+                }
             }
 
             /// The chain's checks across inputs at load (see [`Chain::cross_checks`]).
@@ -83,7 +95,7 @@ macro_rules! chains {
         #[inline]
         fn evaluate_chain<T: Scalar>(chain: &BoundChain, work: &mut [T], stride: usize, n: usize) {
             match chain.kind {
-                $($(ChainKind::$variant => chain_loop(chain, work, stride, n, <$module::$ty as Chain>::evaluate::<T>),)*)*
+                $($(ChainKind::$variant => chain_loop(chain, work, stride, n, |a: &[T], o: &mut [T]| <$module::$ty as Chain>::evaluate::<T>(&chain.context, a, o)),)*)*
             }
         }
     };
@@ -134,6 +146,8 @@ pub(crate) struct BoundChain {
     pub(crate) args: Vec<ArgSource>,
     /// Column of the chain's first measurand; the rest follow in spec order.
     pub(crate) first_output: usize,
+    /// What its evaluation needs besides the inputs (the procedure).
+    pub(crate) context: ChainContext,
 }
 
 /// A formula measurand.

@@ -2,18 +2,20 @@
 //! `weighing-signal` (planning: the reading a power produces), inverse to each other.
 //!
 //! weighing-power, exactly:
-//! F_n = (m g / k - F_stray - F_noise) / cos(beta);
+//! F_a = m g / k - F_stray - F_noise (the force along the sensing axis the estimator sees);
 //! eta = 1 - exp(-2 a^2 / w^2);  G = (1 + R - T) cos(theta) + (2/3) Rd;  S = sum_{k<n} R^k;
-//! P = F_n c / (G eta S),
+//! F_a = P [sigma (G eta S / c) cos(beta) + sigma_h h (1 - R - T - Rd) eta S], so
+//! P = F_a / (sigma (G eta S / c) cos(beta) + sigma_h h A eta S), F_n = P G eta S / c,
 //! with m the reading (equivalent mass), g the local gravity, k the calibration factor, beta the
 //! angle between the mirror normal and the sensing axis (physics::balance), and the mirror and
 //! beam terms of the torsion chains (physics::momentum, physics::beam). `bounces` counts only the
 //! reflections whose force acts on the weighed body.
 
 use super::chain::{
-    Chain, Forecastable, ChainInput, ChainMeasurand, ChainSpec, Domain, MIRROR_AND_BEAM_INPUTS,
-    NOISE_FORCE_INPUT, input, join,
+    Chain, ChainContext, ChainInput, ChainMeasurand, ChainSpec, Domain, Forecastable,
+    HEATING_INPUTS, InputValues, MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT, input, join,
 };
+use crate::physics::response::Instrument;
 use crate::physics::balance::{balance_reading, force_from_reading};
 use crate::physics::beam::gaussian_aperture_fraction;
 use crate::physics::constants::{SPEED_OF_LIGHT, STANDARD_GRAVITY};
@@ -65,16 +67,27 @@ const WEIGHED_BODY_INPUTS: [ChainInput; 3] = [
     NOISE_FORCE_INPUT,
 ];
 
-const fn shared(first: ChainInput) -> [ChainInput; 13] {
+/// The balance's own response, after the heating inputs.
+const RESPONSE_INPUT: ChainInput = input(
+    "response_time",
+    Dimension::TIME,
+    Some(0.0),
+    Domain::NonNegative,
+    "first-order time constant of the balance (from [procedure] response_time or an input); default 0, at once",
+);
+
+const fn shared(first: ChainInput) -> [ChainInput; 16] {
     join(&[
         &[first],
         &BALANCE_INPUTS,
         &MIRROR_AND_BEAM_INPUTS,
         &WEIGHED_BODY_INPUTS,
+        &HEATING_INPUTS,
+        &[RESPONSE_INPUT],
     ])
 }
 
-const WEIGHING_POWER_INPUTS: [ChainInput; 13] = shared(input(
+const WEIGHING_POWER_INPUTS: [ChainInput; 16] = shared(input(
     "reading",
     Dimension::MASS,
     None,
@@ -82,7 +95,7 @@ const WEIGHING_POWER_INPUTS: [ChainInput; 13] = shared(input(
     "the balance reading with the beam on minus off, as an equivalent mass m",
 ));
 
-const WEIGHING_SIGNAL_INPUTS: [ChainInput; 13] = shared(input(
+const WEIGHING_SIGNAL_INPUTS: [ChainInput; 16] = shared(input(
     "power",
     Dimension::POWER,
     None,
@@ -124,16 +137,24 @@ const WEIGHING_SIGNAL: ChainSpec = ChainSpec {
     ],
 };
 
-/// G eta S / c: newtons of normal force per watt arriving at the first mirror.
+/// Per watt arriving at the first mirror: the normal radiation force G eta S / c, and the
+/// force the balance shows along its axis, sigma (G eta S / c) cos(beta) + sigma_h h A eta S
+/// (sigma, sigma_h the balance's settling factors under the procedure for the radiation and the
+/// heating force; h the heating force per watt absorbed; A = 1 - R - T - Rd).
 #[inline(always)]
-fn force_per_watt<T: Scalar>(a: &[T]) -> T {
+fn per_watt<T: Scalar>(ctx: &ChainContext, a: &[T]) -> (T, T) {
     let (reflectance, incidence, beam_radius, mirror_radius) = (a[4], a[5], a[6], a[7]);
     let (transmittance, diffuse, bounces) = (a[8], a[9], a[10]);
+    let (heating_force, heating_time, response_time) = (a[13], a[14], a[15]);
     let eta = gaussian_aperture_fraction(mirror_radius, beam_radius);
     let g = normal_force_factor(reflectance, transmittance, diffuse, incidence);
     // `bounces` is validated at load as a whole constant >= 1.
     let s = bounce_sum(reflectance, bounces.value().round() as u32);
-    g * eta * s * T::cst(1.0 / SPEED_OF_LIGHT)
+    let normal = g * eta * s * T::cst(1.0 / SPEED_OF_LIGHT);
+    let absorptance = T::cst(1.0) - reflectance - transmittance - diffuse;
+    let (sigma, sigma_h) = ctx.settling(Instrument::FirstOrder(response_time), heating_time);
+    let axis = sigma * normal * a[2].cos() + sigma_h * heating_force * absorptance * eta * s;
+    (normal, axis)
 }
 
 /// `weighing-power`: laser power from the reading of a force balance or mass comparator under a
@@ -147,12 +168,18 @@ impl Chain for WeighingPower {
         twin: "weighing-signal",
     });
 
+
+    fn instrument(inputs: &InputValues<'_>) -> Instrument<f64> {
+        Instrument::FirstOrder((inputs.estimate)("response_time").unwrap_or(0.0))
+    }
     #[inline(always)]
-    fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {
+    fn evaluate<T: Scalar>(ctx: &ChainContext, a: &[T], out: &mut [T]) {
         let other = a[11] + a[12];
-        let force = force_from_reading(a[0], a[2], other, a[1], a[3]);
-        out[0] = force / force_per_watt(a);
-        out[1] = force;
+        let axis = force_from_reading(a[0], T::cst(0.0), other, a[1], a[3]);
+        let (normal, axis_per_watt) = per_watt(ctx, a);
+        let power = axis / axis_per_watt;
+        out[0] = power;
+        out[1] = power * normal;
     }
 }
 
@@ -163,12 +190,16 @@ pub(crate) struct WeighingSignal;
 impl Chain for WeighingSignal {
     const SPEC: ChainSpec = WEIGHING_SIGNAL;
 
+
+    fn instrument(inputs: &InputValues<'_>) -> Instrument<f64> {
+        Instrument::FirstOrder((inputs.estimate)("response_time").unwrap_or(0.0))
+    }
     #[inline(always)]
-    fn evaluate<T: Scalar>(a: &[T], out: &mut [T]) {
+    fn evaluate<T: Scalar>(ctx: &ChainContext, a: &[T], out: &mut [T]) {
         let other = a[11] + a[12];
-        let force = a[0] * force_per_watt(a);
-        out[0] = balance_reading(force, a[2], other, a[1], a[3]);
-        out[1] = force;
+        let (normal, axis_per_watt) = per_watt(ctx, a);
+        out[0] = balance_reading(a[0] * axis_per_watt, T::cst(0.0), other, a[1], a[3]);
+        out[1] = a[0] * normal;
     }
 }
 
@@ -177,21 +208,36 @@ mod tests {
     use super::*;
     use approx::assert_relative_eq;
 
-    fn args(first: f64) -> [f64; 13] {
+    fn args(first: f64) -> [f64; 16] {
         [
             first, 9.8123, 0.01, 1.0004, 0.99995, 0.05, 4e-3, 15e-3, 1e-5, 2e-5, 14.0, 3e-9, 1e-10,
+            2e-9, 30.0, 2.5,
         ]
     }
 
-    // The two directions are inverse to each other.
+    // The two directions are inverse to each other, also with a procedure, a response time
+    // and heating.
     #[test]
     fn round_trip_returns_the_power() {
-        let mut sig = [0.0; 2];
-        WeighingSignal::evaluate(&args(1000.0), &mut sig);
-        let mut back = [0.0; 2];
-        WeighingPower::evaluate(&args(sig[0]), &mut back);
-        assert_relative_eq!(back[0], 1000.0, max_relative = 1e-12);
-        assert_relative_eq!(back[1], sig[1], max_relative = 1e-12);
+        for ctx in [
+            ChainContext::default(),
+            ChainContext {
+                procedure: Some(crate::physics::procedure::Procedure {
+                    pattern: crate::physics::procedure::Pattern::Alternate,
+                    cycles: 7,
+                    on_time: 60.0,
+                    off_time: 45.0,
+                    settle_time: 10.0,
+                }),
+            },
+        ] {
+            let mut sig = [0.0; 2];
+            WeighingSignal::evaluate(&ctx, &args(1000.0), &mut sig);
+            let mut back = [0.0; 2];
+            WeighingPower::evaluate(&ctx, &args(sig[0]), &mut back);
+            assert_relative_eq!(back[0], 1000.0, max_relative = 1e-12);
+            assert_relative_eq!(back[1], sig[1], max_relative = 1e-12);
+        }
     }
 
     // REFERENCES 5: 1 kW on a perfect mirror at normal incidence reads 0.680 mg (2P/(c g_n));
@@ -213,12 +259,15 @@ mod tests {
                 n,
                 0.0,
                 0.0,
+                0.0,
+                0.0,
+                0.0,
             ]
         };
         let mut out = [0.0; 2];
-        WeighingSignal::evaluate(&ideal(1000.0, 1.0), &mut out);
+        WeighingSignal::evaluate(&ChainContext::default(), &ideal(1000.0, 1.0), &mut out);
         assert_relative_eq!(out[0], 0.680e-6, max_relative = 1e-3);
-        WeighingSignal::evaluate(&ideal(10.0, 33.0), &mut out);
+        WeighingSignal::evaluate(&ChainContext::default(), &ideal(10.0, 33.0), &mut out);
         assert_relative_eq!(out[1], 2.20e-6, max_relative = 1e-3);
     }
 }

@@ -11,4 +11,5 @@ pub mod momentum;
 pub mod noise;
 pub mod power_law;
 pub mod procedure;
+pub mod response;
 pub mod torsion;

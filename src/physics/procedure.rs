@@ -332,6 +332,16 @@ impl Procedure {
     /// grid (ratio 1.1), then a ternary search between the best point's neighbours on the grid.
     /// `None` when no count fits (phases no longer than the settling).
     pub fn best_phases(&self, model: &NoiseModel) -> Option<(Procedure, EstimatorTerms)> {
+        self.best_phases_where(model, &|_| true)
+    }
+
+    /// [`Procedure::best_phases`] among the candidates `admissible` accepts (for a pendulum,
+    /// those whose ring-down the windows do not see).
+    pub fn best_phases_where(
+        &self,
+        model: &NoiseModel,
+        admissible: &dyn Fn(&Procedure) -> bool,
+    ) -> Option<(Procedure, EstimatorTerms)> {
         let total = self.total_time();
         let ratio = self.on_time / self.off_time;
         let with_count = |n: u64| -> Option<Procedure> {
@@ -349,7 +359,7 @@ impl Procedure {
             })
         };
         let score = |n: u64| {
-            with_count(n).map(|p| {
+            with_count(n).filter(|p| admissible(p)).map(|p| {
                 let t = p.estimator_terms(model);
                 (p, t, t.standard_uncertainty())
             })

@@ -507,6 +507,12 @@ fn noise_and_procedure(f: &Findings) -> String {
             force_text(p.terms.random_walk),
             force_text(p.terms.drift_bias.abs())
         ));
+        if p.settling_factor != 1.0 {
+            out.push_str(&format!(
+                " The windows see a fraction {:.6} of a force step through the instrument's response (the settling factor; the model divides by it, so its uncertainty is propagated).",
+                p.settling_factor
+            ));
+        }
         out.push_str(&match p.cycles_for_target {
             Some(c) => format!(
                 " A force resolution of {} takes {c} cycles of these phases ({}).",

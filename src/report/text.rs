@@ -491,6 +491,17 @@ fn procedure_section(out: &mut String, f: &Findings) {
         duration(pr.settle_time),
         duration(p.total_time)
     ));
+    if p.settling_factor != 1.0 || p.heating_settling_factor != 1.0 {
+        out.push_str(&format!(
+            "  settling factor {:.6} (the windows' share of a unit force step through the instrument's response; the model divides by it){}\n",
+            p.settling_factor,
+            if p.heating_settling_factor != p.settling_factor {
+                format!("; of the heating force, after its lag, {:.6}", p.heating_settling_factor)
+            } else {
+                String::new()
+            }
+        ));
+    }
     let t = &p.terms;
     out.push_str(&format!(
         "  estimator noise (the input `noise_force`): {} = white {}, flicker {}, random walk {} in quadrature; drift bias {}{}\n",
@@ -518,7 +529,13 @@ fn procedure_section(out: &mut String, f: &Findings) {
             grouped(crate::physics::procedure::MAX_CYCLES)
         ),
     });
-    if let Some((b, bt)) = &p.best {
+    if let Some((b, _)) = p.best.as_ref().filter(|(b, _)| b.cycles == pr.cycles) {
+        out.push_str(&format!(
+            "  for the same {}, these phases ({} cycles) are the best\n",
+            duration(p.total_time),
+            b.cycles
+        ));
+    } else if let Some((b, bt)) = &p.best {
         out.push_str(&format!(
             "  for the same {}: phases of {} on / {} off, {}, give {} (now {})\n",
             duration(p.total_time),

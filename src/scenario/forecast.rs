@@ -7,7 +7,7 @@
 use super::inputs::{InputQuantity, Law};
 use super::load::Loader;
 use crate::error::InputError;
-use crate::model::ChainKind;
+use crate::model::{ChainContext, ChainKind};
 use crate::units::{Dimension, parse_quantity, readable_unit};
 use std::ops::Range;
 use toml::de::DeValue;
@@ -32,6 +32,7 @@ const EXAMPLE: &str = "[forecast]\npower = \"2 kW\"";
 pub(crate) fn predict(
     observed: &str,
     twin: ChainKind,
+    context: &ChainContext,
     power: f64,
     estimate: &dyn Fn(&str) -> Option<f64>,
 ) -> Result<f64, String> {
@@ -49,7 +50,7 @@ pub(crate) fn predict(
             }
         })
         .collect::<Result<Vec<f64>, String>>()?;
-    let out = twin.evaluate_point(&args);
+    let out = twin.evaluate_point(context, &args);
     let i = spec
         .measurands
         .iter()
@@ -137,8 +138,11 @@ impl Loader<'_, '_> {
                 .find(|q| q.name == name)
                 .map(InputQuantity::estimate)
         };
-        let predicted =
-            predict(how.observed, twin, power, &estimate).map_err(|m| t.error(m, EXAMPLE))?;
+        let context = ChainContext {
+            procedure: self.procedure()?,
+        };
+        let predicted = predict(how.observed, twin, &context, power, &estimate)
+            .map_err(|m| t.error(m, EXAMPLE))?;
         let dimension = kind
             .spec()
             .inputs

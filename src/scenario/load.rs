@@ -164,6 +164,13 @@ impl<'a, 'i> Loader<'a, 'i> {
             Some(e) => correlation::read_correlations(&e, &inputs)?,
             None => Correlations::default(),
         };
+        let kind = chain.as_ref().map(|c| c.0);
+        if let Some(q) = self.response_time_input(kind, &inputs)? {
+            inputs.push(q);
+        }
+        if let Some(q) = self.anelastic_input(kind, &inputs)? {
+            inputs.push(q);
+        }
         let forecast = match self.forecast(chain.as_ref(), &inputs)? {
             None => None,
             Some((forecast, observed)) => {
@@ -173,7 +180,6 @@ impl<'a, 'i> Loader<'a, 'i> {
         };
         let procedure = self.procedure()?;
         let (mut measurands, mut model) = self.model(chain.clone(), &inputs)?;
-        let kind = chain.as_ref().map(|c| c.0);
         let noise = match self.noise(kind, &inputs, &measurands, &model, procedure.as_ref())? {
             None => None,
             Some((floor, noise_force)) => {
@@ -194,6 +200,9 @@ impl<'a, 'i> Loader<'a, 'i> {
             noise.is_some(),
             procedure.is_some(),
         ));
+        if let (Some(k), Some(p)) = (kind, procedure.as_ref()) {
+            warnings.extend(settling_warning(k, &inputs, p));
+        }
         let variants = match top.get("variants") {
             None => Vec::new(),
             Some(e) => {
@@ -453,4 +462,37 @@ fn planning_warnings(
         out.push("[procedure] is given without [noise]: the procedure's noise is not part of the result; describe the instrument's noise in [noise]".into());
     }
     out
+}
+
+/// A warning when the windows see mostly transient: the settling factor at the estimates below
+/// 1/2 (the model divides by it, so its uncertainty is what the windows leave of the signal).
+fn settling_warning(
+    chain: ChainKind,
+    inputs: &[InputQuantity],
+    p: &crate::physics::procedure::Procedure,
+) -> Option<String> {
+    let spec = chain.spec();
+    let estimate = |n: &str| {
+        inputs
+            .iter()
+            .find(|q| q.name == n)
+            .map(InputQuantity::estimate)
+            .or_else(|| {
+                spec.inputs
+                    .iter()
+                    .find(|c| c.name == n)
+                    .and_then(|c| c.default)
+            })
+    };
+    let no_upper = |_: &str| None;
+    let instrument = chain.instrument(&InputValues {
+        estimate: &estimate,
+        upper: &no_upper,
+    });
+    let s = crate::physics::response::settling_factor(p, &instrument.modes());
+    (s < 0.5).then(|| {
+        format!(
+            "`procedure.settle_time`: the settling factor is {s:.3}: the kept windows see mostly the instrument's transient, not its settled response; discard more of each phase (a longer settle_time) or lengthen the phases"
+        )
+    })
 }

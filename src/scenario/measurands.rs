@@ -8,7 +8,7 @@ use super::study::Measurand;
 use super::table::Entry;
 use crate::error::InputError;
 use crate::model::formula::{self, topological_order};
-use crate::model::{ArgSource, BoundChain, ChainKind, FormulaStep, Model};
+use crate::model::{ArgSource, BoundChain, ChainContext, ChainKind, FormulaStep, Model};
 use crate::units::{DisplayUnit, parse_unit};
 use std::ops::Range;
 
@@ -129,6 +129,9 @@ impl<'a, 'i> Loader<'a, 'i> {
             ));
         }
         let bound = BoundChain {
+            context: ChainContext {
+                procedure: self.procedure()?,
+            },
             kind,
             args,
             first_output: n_in,

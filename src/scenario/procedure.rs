@@ -1,12 +1,15 @@
 //! `[procedure]`: the planned on/off measurement (physics::procedure): pattern, cycles, phase
 //! lengths and the settling discarded at the start of every phase.
 
+use super::inputs::{InputQuantity, Law};
 use super::load::Loader;
 use super::source::suggestion;
 use super::table::Entry;
+use crate::dist::{Distribution, Rectangular};
 use crate::error::InputError;
+use crate::model::ChainKind;
 use crate::physics::procedure::{MAX_CYCLES, Pattern, Procedure};
-use crate::units::{Dimension, parse_quantity};
+use crate::units::{Dimension, DisplayUnit, parse_quantity};
 use toml::de::DeValue;
 
 const EXAMPLE: &str = "[procedure]\npattern = \"ABA\"\ncycles = 10\non_time = \"60 s\"\noff_time = \"60 s\"\nsettle_time = \"10 s\"";
@@ -47,7 +50,14 @@ impl Loader<'_, '_> {
         };
         let t = e.table(EXAMPLE)?;
         t.check_keys(
-            &["pattern", "cycles", "on_time", "off_time", "settle_time"],
+            &[
+                "pattern",
+                "cycles",
+                "on_time",
+                "off_time",
+                "settle_time",
+                "response_time",
+            ],
             EXAMPLE,
         )?;
         let pe = t.require("pattern", EXAMPLE)?;
@@ -98,6 +108,103 @@ impl Loader<'_, '_> {
             on_time,
             off_time,
             settle_time,
+        }))
+    }
+}
+
+impl Loader<'_, '_> {
+    /// `[procedure] response_time`: the balance's first-order time constant, as the input
+    /// quantity `response_time` (a constant; an input table of that name may give it a
+    /// distribution instead). A pendulum responds by its own free period and quality factor.
+    pub(super) fn response_time_input(
+        &self,
+        chain: Option<ChainKind>,
+        inputs: &[InputQuantity],
+    ) -> Result<Option<InputQuantity>, InputError> {
+        let Some(t) = self
+            .top
+            .get("procedure")
+            .map(|e| e.table(EXAMPLE))
+            .transpose()?
+        else {
+            return Ok(None);
+        };
+        let Some(e) = t.get("response_time") else {
+            return Ok(None);
+        };
+        let takes = chain.is_some_and(|c| c.spec().input_index("response_time").is_some());
+        if !takes {
+            return Err(e.error(
+                "`response_time` is a force balance's first-order time constant; a torsion pendulum responds by its own free_period and quality_factor (and formulas take none)",
+                "[model]\nchain = \"weighing-power\"",
+            ));
+        }
+        if let Some(q) = inputs.iter().find(|q| q.name == "response_time") {
+            return Err(self.src.error(
+                &q.span,
+                "inputs.response_time",
+                "the response time is given twice: in [procedure] and as [inputs.response_time]; keep one (the input table may give it a distribution)",
+                "response_time = \"3 s\"",
+            ));
+        }
+        let v = time(&e)?;
+        Ok(Some(InputQuantity {
+            name: "response_time".into(),
+            law: Law::Constant(v),
+            dof: None,
+            dimension: Some(Dimension::TIME),
+            shown_unit: DisplayUnit::si(Dimension::TIME),
+            note: Some("the balance's first-order time constant, from [procedure]".into()),
+            best: None,
+            span: e.span(),
+        }))
+    }
+
+    /// The fibre's anelasticity: with structural damping (the default) and a finite quality
+    /// factor Q, the static torsion constant is below the one the period gives by about
+    /// delta = 1/(pi Q) (K. Kuroda, Phys. Rev. Lett. 75, 2796, 1995: with a
+    /// frequency-independent loss the real part of the spring constant depends on frequency;
+    /// the size 1/(pi Q) from memory). Unless the scenario gives `anelastic_correction` itself,
+    /// it enters as the input quantity `anelastic_correction` ~ R(delta / 2, 3 delta / 2): the
+    /// correction with half of it as a rectangular uncertainty.
+    pub(super) fn anelastic_input(
+        &self,
+        chain: Option<ChainKind>,
+        inputs: &[InputQuantity],
+    ) -> Result<Option<InputQuantity>, InputError> {
+        let takes = chain.is_some_and(|c| c.spec().input_index("anelastic_correction").is_some());
+        if !takes || inputs.iter().any(|q| q.name == "anelastic_correction") {
+            return Ok(None);
+        }
+        let viscous = self
+            .top
+            .get("noise")
+            .and_then(|n| n.table("").ok())
+            .and_then(|t| t.get("damping"))
+            .is_some_and(|d| d.string("").ok() == Some("viscous"));
+        let Some(q) = inputs.iter().find(|q| q.name == "quality_factor") else {
+            return Ok(None);
+        };
+        let quality = q.estimate();
+        if viscous || !quality.is_finite() {
+            return Ok(None);
+        }
+        let delta = 1.0 / (std::f64::consts::PI * quality);
+        let law = Rectangular::new(0.5 * delta, 1.5 * delta).map_err(|e| {
+            self.src
+                .error(&q.span, "inputs.quality_factor", e.reason, "value = 3000")
+        })?;
+        Ok(Some(InputQuantity {
+            name: "anelastic_correction".into(),
+            law: Law::Distributed(Distribution::Rectangular(law)),
+            dof: None,
+            dimension: Some(Dimension::NONE),
+            shown_unit: DisplayUnit::si(Dimension::NONE),
+            note: Some(format!(
+                "static torsion constant below the dynamic one by 1/(pi Q) = {delta:.3e} for structural damping (Kuroda 1995), half of it as a rectangular uncertainty"
+            )),
+            best: None,
+            span: q.span.clone(),
         }))
     }
 }

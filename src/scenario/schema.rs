@@ -147,6 +147,7 @@ pub(crate) fn scenario_schema() -> Value {
                     "on_time": quantity,
                     "off_time": quantity,
                     "settle_time": quantity,
+                    "response_time": quantity,
                 },
                 "additionalProperties": false,
             },

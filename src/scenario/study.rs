@@ -104,6 +104,21 @@ impl Study {
         Ok(s)
     }
 
+    /// The estimate of an input by name, or the chain's default for one the scenario leaves
+    /// out.
+    pub(crate) fn estimate_of(&self, name: &str) -> Option<f64> {
+        match self.inputs.iter().find(|q| q.name == name) {
+            Some(q) => Some(q.estimate()),
+            None => self
+                .chain?
+                .spec()
+                .inputs
+                .iter()
+                .find(|c| c.name == name)
+                .and_then(|c| c.default),
+        }
+    }
+
     /// Derive again what the loader derived from the inputs, after they were moved or
     /// narrowed: the forecast's predicted signal, and the noise floor with the standard
     /// deviation of `noise_force` (the thermal noise depends on the balance, the target and the
@@ -111,6 +126,12 @@ impl Study {
     pub(crate) fn refresh(&mut self) -> Result<(), String> {
         let Some(kind) = self.chain else {
             return Ok(());
+        };
+        if let Some(c) = self.model.chain.as_mut() {
+            c.context.procedure = self.procedure;
+        }
+        let context = crate::model::ChainContext {
+            procedure: self.procedure,
         };
         let spec = kind.spec();
         if let (Some(f), Some(how)) = (&self.forecast, kind.forecast()) {
@@ -121,7 +142,7 @@ impl Study {
                     .find(|q| q.name == name && q.name != how.observed)
                     .map(InputQuantity::estimate)
             };
-            let predicted = predict(how.observed, f.twin, f.power, &estimate)?;
+            let predicted = predict(how.observed, f.twin, &context, f.power, &estimate)?;
             let input = f.input;
             self.inputs[input].law = Law::Constant(predicted);
             if let Some(f) = self.forecast.as_mut() {

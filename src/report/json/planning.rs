@@ -62,6 +62,7 @@ pub(super) struct ProcedureJson {
     estimator_sd: f64,
     terms: TermsJson,
     settling_factor: f64,
+    heating_settling_factor: f64,
     target_resolution: f64,
     cycles_for_target: Option<u64>,
     best_phase: Option<BestPhaseJson>,
@@ -163,6 +164,7 @@ pub(super) fn procedure_json(f: &Findings) -> Option<ProcedureJson> {
                     drift_bias: p.terms.drift_bias,
                 },
                 settling_factor: p.settling_factor,
+                heating_settling_factor: p.heating_settling_factor,
                 target_resolution: p.target_resolution,
                 cycles_for_target: p.cycles_for_target,
                 best_phase: p.best.as_ref().map(|(b, t)| BestPhaseJson {
