@@ -1,6 +1,8 @@
 //! Arcsine (U-shaped) distribution U(a, b) (JCGM 101:2008, 6.4.6).
 
-use super::{Family, ParameterError, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
+use super::{
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, require_ordered, uniform01,
+};
 use rand::Rng;
 use std::f64::consts::PI;
 

@@ -1,6 +1,9 @@
 //! Beta distribution scaled to [min, max], for bounded quantities such as a reflectance.
 
-use super::{Family, ParameterError, invalid, require_ordered, require_positive, Distribution, FamilySpec, ParamKind};
+use super::{
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, invalid, require_ordered,
+    require_positive,
+};
 use rand::Rng;
 use rand_distr::Distribution as _;
 use statrs::distribution::{Continuous, ContinuousCDF};

@@ -2,7 +2,8 @@
 //! within +-d (JCGM 101:2008, 6.4.3).
 
 use super::{
-    Family, ParameterError, invalid, invert_cdf, require_finite, require_ordered, uniform01, Distribution, FamilySpec, ParamKind,
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, invalid, invert_cdf,
+    require_finite, require_ordered, uniform01,
 };
 use rand::Rng;
 
@@ -73,9 +74,7 @@ impl Family for CurvilinearTrapezoid {
         ],
         example: "dist = \"curvilinear-trapezoid\", min = \"0.9 mm\", max = \"1.1 mm\", limit_spread = \"0.02 mm\"",
         type_b_dof: true,
-        build: |p| {
-            Ok(CurvilinearTrapezoid::new(p.numbers[0], p.numbers[1], p.numbers[2])?.into())
-        },
+        build: |p| Ok(CurvilinearTrapezoid::new(p.numbers[0], p.numbers[1], p.numbers[2])?.into()),
     }];
     fn mean(&self) -> f64 {
         self.centre()

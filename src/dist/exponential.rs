@@ -1,7 +1,7 @@
 //! Exponential distribution with a given mean (JCGM 101:2008, 6.4.10): the maximum-entropy
 //! choice for a non-negative quantity of which only the estimate is known.
 
-use super::{Family, ParameterError, require_positive, Distribution, FamilySpec, ParamKind};
+use super::{Distribution, Family, FamilySpec, ParamKind, ParameterError, require_positive};
 use rand::Rng;
 use rand_distr::{Distribution as _, Exp1};
 

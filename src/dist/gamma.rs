@@ -1,6 +1,6 @@
 //! Gamma distribution with shape and scale (JCGM 101:2008, 6.4.11; counts q: shape q + 1).
 
-use super::{Family, ParameterError, require_positive, Distribution, FamilySpec, ParamKind};
+use super::{Distribution, Family, FamilySpec, ParamKind, ParameterError, require_positive};
 use rand::Rng;
 use rand_distr::Distribution as _;
 use statrs::distribution::{Continuous, ContinuousCDF};

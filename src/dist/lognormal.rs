@@ -1,7 +1,7 @@
 //! Lognormal distribution given by the mean and standard deviation of the quantity itself.
 
 use super::special::{std_normal_cdf, std_normal_pdf, std_normal_quantile};
-use super::{Family, ParameterError, require_positive, Distribution, FamilySpec, ParamKind};
+use super::{Distribution, Family, FamilySpec, ParamKind, ParameterError, require_positive};
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
 

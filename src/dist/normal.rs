@@ -1,7 +1,9 @@
 //! Gaussian distribution N(mu, sigma^2) (JCGM 101:2008, 6.4.7).
 
 use super::special::{std_normal_cdf, std_normal_pdf, std_normal_quantile};
-use super::{Family, ParameterError, require_finite, require_positive, Distribution, FamilySpec, ParamKind};
+use super::{
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, require_finite, require_positive,
+};
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
 

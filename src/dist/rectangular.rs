@@ -1,6 +1,8 @@
 //! Rectangular (uniform) distribution R(a, b) (JCGM 101:2008, 6.4.2).
 
-use super::{Family, ParameterError, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
+use super::{
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, require_ordered, uniform01,
+};
 use rand::Rng;
 
 /// Rectangular on [min, max]: x = a + (b - a) r with r ~ R(0, 1); variance (b - a)^2 / 12.

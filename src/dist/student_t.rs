@@ -2,7 +2,10 @@
 //! built from a series of repeated readings.
 
 use super::special::std_normal_quantile;
-use super::{Family, ParameterError, invalid, require_finite, require_positive, Distribution, FamilySpec, ParamKind};
+use super::{
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, invalid, require_finite,
+    require_positive,
+};
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
 use statrs::distribution::{Continuous, ContinuousCDF};
@@ -196,7 +199,11 @@ impl Family for ScaledT {
         },
     ];
     fn name(&self) -> &'static str {
-        if self.is_from_readings() { "readings" } else { "t" }
+        if self.is_from_readings() {
+            "readings"
+        } else {
+            "t"
+        }
     }
     fn mean(&self) -> f64 {
         self.mean

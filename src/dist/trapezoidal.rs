@@ -1,6 +1,9 @@
 //! Symmetric trapezoidal distribution (JCGM 101:2008, 6.4.4).
 
-use super::{Family, ParameterError, invalid, require_finite, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
+use super::{
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, invalid, require_finite,
+    require_ordered, uniform01,
+};
 use rand::Rng;
 
 /// Symmetric trapezoid on [min, max] whose top is `beta` times its base (0 <= beta <= 1;

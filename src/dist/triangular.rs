@@ -1,6 +1,8 @@
 //! Symmetric triangular distribution T(a, b) (JCGM 101:2008, 6.4.5).
 
-use super::{Family, ParameterError, require_ordered, uniform01, Distribution, FamilySpec, ParamKind};
+use super::{
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, require_ordered, uniform01,
+};
 use rand::Rng;
 
 /// Symmetric triangular on [min, max]: x = a + (b - a)(r1 + r2)/2; variance (b - a)^2 / 24.

@@ -4,8 +4,8 @@ use super::special::{
     std_normal_cdf, std_normal_isf, std_normal_pdf, std_normal_quantile, std_normal_sf,
 };
 use super::{
-    Family, ParameterError, invalid, require_finite, require_ordered, require_positive,
-    uniform_open01, Distribution, FamilySpec, ParamKind,
+    Distribution, Family, FamilySpec, ParamKind, ParameterError, invalid, require_finite,
+    require_ordered, require_positive, uniform_open01,
 };
 use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
@@ -153,10 +153,13 @@ impl Family for TruncatedNormal {
     }
     fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {
         let delta = mean - self.mean();
-        Ok(
-            TruncatedNormal::new(self.mean + delta, self.sd, self.min + delta, self.max + delta)?
-                .into(),
-        )
+        Ok(TruncatedNormal::new(
+            self.mean + delta,
+            self.sd,
+            self.min + delta,
+            self.max + delta,
+        )?
+        .into())
     }
     /// The spread of the parent normal is divided (its own standard deviation then shrinks by
     /// about `factor`).

@@ -17,11 +17,11 @@ use super::chain::{
     Chain, ChainContext, ChainInput, ChainIssue, ChainMeasurand, ChainSpec, Domain, Forecastable,
     HEATING_INPUTS, InputValues, MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT, input, join,
 };
-use crate::physics::response::Instrument;
 use crate::physics::beam::gaussian_aperture_fraction;
 use crate::physics::constants::SPEED_OF_LIGHT;
 use crate::physics::momentum::{bounce_sum, normal_force_factor};
 use crate::physics::noise::{Damping, NoiseSettings, readout_torque_psd, thermal_torque_psd};
+use crate::physics::response::Instrument;
 use crate::physics::torsion::{
     damping_corrected, deflection_angle, optical_lever_angle, optical_lever_shift,
     torsion_constant_from_period,
@@ -248,7 +248,6 @@ impl Chain for TorsionPower {
         twin: "torsion-signal",
     });
 
-
     fn instrument(inputs: &InputValues<'_>) -> Instrument<f64> {
         pendulum(inputs)
     }
@@ -278,7 +277,6 @@ pub(crate) struct TorsionSignal;
 
 impl Chain for TorsionSignal {
     const SPEC: ChainSpec = TORSION_SIGNAL;
-
 
     fn instrument(inputs: &InputValues<'_>) -> Instrument<f64> {
         pendulum(inputs)
@@ -324,7 +322,10 @@ fn pendulum_noise(
 ) -> Result<Vec<(&'static str, f64)>, ChainIssue> {
     let need = |n: &str| {
         (inputs.estimate)(n).ok_or_else(|| {
-            ChainIssue::table(format!("the noise floor needs the input `{n}`"), NOISE_EXAMPLE)
+            ChainIssue::table(
+                format!("the noise floor needs the input `{n}`"),
+                NOISE_EXAMPLE,
+            )
         })
     };
     let (inertia, period, lever) = (
@@ -394,12 +395,12 @@ mod tests {
                 }),
             },
         ] {
-        let mut signal = [0.0; 4];
-        TorsionSignal::evaluate(&ctx, &args(25.0), &mut signal);
-        let mut power = [0.0; 3];
-        TorsionPower::evaluate(&ctx, &args(signal[3]), &mut power);
-        assert_relative_eq!(power[0], 25.0, max_relative = 1e-12);
-        assert_relative_eq!(power[1], signal[0], max_relative = 1e-12);
+            let mut signal = [0.0; 4];
+            TorsionSignal::evaluate(&ctx, &args(25.0), &mut signal);
+            let mut power = [0.0; 3];
+            TorsionPower::evaluate(&ctx, &args(signal[3]), &mut power);
+            assert_relative_eq!(power[0], 25.0, max_relative = 1e-12);
+            assert_relative_eq!(power[1], signal[0], max_relative = 1e-12);
         }
     }
 

@@ -15,11 +15,11 @@ use super::chain::{
     Chain, ChainContext, ChainInput, ChainMeasurand, ChainSpec, Domain, Forecastable,
     HEATING_INPUTS, InputValues, MIRROR_AND_BEAM_INPUTS, NOISE_FORCE_INPUT, input, join,
 };
-use crate::physics::response::Instrument;
 use crate::physics::balance::{balance_reading, force_from_reading};
 use crate::physics::beam::gaussian_aperture_fraction;
 use crate::physics::constants::{SPEED_OF_LIGHT, STANDARD_GRAVITY};
 use crate::physics::momentum::{bounce_sum, normal_force_factor};
+use crate::physics::response::Instrument;
 use crate::scalar::Scalar;
 use crate::units::Dimension;
 
@@ -168,7 +168,6 @@ impl Chain for WeighingPower {
         twin: "weighing-signal",
     });
 
-
     fn instrument(inputs: &InputValues<'_>) -> Instrument<f64> {
         Instrument::FirstOrder((inputs.estimate)("response_time").unwrap_or(0.0))
     }
@@ -189,7 +188,6 @@ pub(crate) struct WeighingSignal;
 
 impl Chain for WeighingSignal {
     const SPEC: ChainSpec = WEIGHING_SIGNAL;
-
 
     fn instrument(inputs: &InputValues<'_>) -> Instrument<f64> {
         Instrument::FirstOrder((inputs.estimate)("response_time").unwrap_or(0.0))

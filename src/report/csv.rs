@@ -189,67 +189,67 @@ impl Exporter for CsvReport {
 
 /// The comparison as one CSV table.
 fn comparison(c: &Comparison) -> Vec<u8> {
-        let rows = c
-            .rows
-            .iter()
-            .map(|r| {
-                let m = &r.findings.measurands[r.measurand];
-                let k = m.unit.factor;
-                vec![
-                    r.name.clone(),
-                    m.name.clone(),
-                    m.unit.symbol.clone(),
-                    g(r.summary.estimate / k),
-                    g(r.summary.standard_uncertainty / k),
-                    g(r.relative_expanded_uncertainty),
-                    g(r.summary.symmetric_interval.0 / k),
-                    g(r.summary.symmetric_interval.1 / k),
-                    r.rank.to_string(),
-                ]
-            })
-            .collect();
-        table(
-            &[
-                "name",
-                "measurand",
-                "unit",
-                "estimate",
-                "standard_uncertainty",
-                "relative_expanded_uncertainty",
-                "symmetric_low",
-                "symmetric_high",
-                "rank",
-            ],
-            rows,
-        )
+    let rows = c
+        .rows
+        .iter()
+        .map(|r| {
+            let m = &r.findings.measurands[r.measurand];
+            let k = m.unit.factor;
+            vec![
+                r.name.clone(),
+                m.name.clone(),
+                m.unit.symbol.clone(),
+                g(r.summary.estimate / k),
+                g(r.summary.standard_uncertainty / k),
+                g(r.relative_expanded_uncertainty),
+                g(r.summary.symmetric_interval.0 / k),
+                g(r.summary.symmetric_interval.1 / k),
+                r.rank.to_string(),
+            ]
+        })
+        .collect();
+    table(
+        &[
+            "name",
+            "measurand",
+            "unit",
+            "estimate",
+            "standard_uncertainty",
+            "relative_expanded_uncertainty",
+            "symmetric_low",
+            "symmetric_high",
+            "rank",
+        ],
+        rows,
+    )
 }
 
 /// The plan's changes as a CSV table, then the target line.
 fn plan(p: &PlanFinding) -> Vec<u8> {
-        let f = &p.verification;
-        let rows = p
-            .proposal
-            .changes
-            .iter()
-            .map(|c| {
-                vec![
-                    f.inputs[c.input].name.clone(),
-                    f.inputs[c.input].si_unit.clone(),
-                    g(c.from),
-                    g(c.to),
-                    g(c.factor),
-                ]
-            })
-            .collect();
-        let mut out = table(&["input", "unit", "from", "to", "factor"], rows);
-        out.extend(
-            format!(
-                "\ntarget,{},achieved,{},met,{}\n",
-                g(p.spec.value),
-                g(p.achieved),
-                p.met
-            )
-            .into_bytes(),
-        );
-        out
+    let f = &p.verification;
+    let rows = p
+        .proposal
+        .changes
+        .iter()
+        .map(|c| {
+            vec![
+                f.inputs[c.input].name.clone(),
+                f.inputs[c.input].si_unit.clone(),
+                g(c.from),
+                g(c.to),
+                g(c.factor),
+            ]
+        })
+        .collect();
+    let mut out = table(&["input", "unit", "from", "to", "factor"], rows);
+    out.extend(
+        format!(
+            "\ntarget,{},achieved,{},met,{}\n",
+            g(p.spec.value),
+            g(p.achieved),
+            p.met
+        )
+        .into_bytes(),
+    );
+    out
 }

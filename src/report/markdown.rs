@@ -2,10 +2,10 @@
 //! tables, the figures, the method with JCGM 100/101 cited, and the cautions.
 
 use super::cautions::cautions;
-use super::{Context, Exporter, Report};
 use super::decisions_text::{target_value, target_words};
 use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
 use super::format::{grouped, percent};
+use super::{Context, Exporter, Report};
 use crate::analysis::planning::{Comparison, PlanFinding};
 use crate::analysis::{Findings, MeasurandFinding};
 
@@ -467,7 +467,10 @@ fn noise_and_procedure(f: &Findings) -> String {
             terms.push(format!("a flicker floor of {}", force_text(m.flicker)));
         }
         if m.random_walk > 0.0 {
-            terms.push(format!("a random walk K = {}/sqrt(s)", force_text(m.random_walk)));
+            terms.push(format!(
+                "a random walk K = {}/sqrt(s)",
+                force_text(m.random_walk)
+            ));
         }
         if m.drift != 0.0 {
             terms.push(format!("a drift of {}/min", force_text(m.drift * 60.0)));

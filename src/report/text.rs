@@ -1,12 +1,12 @@
 //! The terminal report.
 
-use super::{Context, Exporter, Report};
 use super::cautions::cautions;
-use super::format::{cycles_text, 
-    duration, exact, fixed, force_text, grouped, input_pair, measurand_unit, percent,
+use super::format::{
+    cycles_text, duration, exact, fixed, force_text, grouped, input_pair, measurand_unit, percent,
     relative_percent, significant, value_and_uncertainty,
 };
 use super::table::TextTable;
+use super::{Context, Exporter, Report};
 use crate::analysis::{Findings, MeasurandFinding};
 
 /// Human-readable tables of the results, with GUM rounding and readable units.
@@ -28,164 +28,163 @@ impl Exporter for TextReport {
 
 /// The report of a run.
 fn run(f: &Findings) -> String {
-        let mut out = String::new();
-        out.push_str(&format!("{}\n", f.title));
+    let mut out = String::new();
+    out.push_str(&format!("{}\n", f.title));
+    out.push_str(&format!(
+        "scenario {}{} | M = {} trials | seed {} | coverage probability {}\n",
+        f.file,
+        f.chain.map_or(String::new(), |c| format!(" | chain {c}")),
+        grouped(f.trials),
+        f.seed,
+        percent(f.coverage)
+    ));
+    out.push_str("Monte Carlo propagation of distributions (JCGM 101:2008)\n");
+    if let Some(fc) = &f.forecast {
         out.push_str(&format!(
-            "scenario {}{} | M = {} trials | seed {} | coverage probability {}\n",
-            f.file,
-            f.chain.map_or(String::new(), |c| format!(" | chain {c}")),
-            grouped(f.trials),
-            f.seed,
-            percent(f.coverage)
-        ));
-        out.push_str("Monte Carlo propagation of distributions (JCGM 101:2008)\n");
-        if let Some(fc) = &f.forecast {
-            out.push_str(&format!(
                 "forecast for {} W: the {} a meter would show, {} {}, is predicted from the model and held as an exact constant (no observation yet)\n",
                 significant(fc.power, 4),
                 fc.input,
                 significant(fc.value / fc.unit.factor, 6),
                 fc.unit.symbol
             ));
-        }
-        out.push('\n');
+    }
+    out.push('\n');
 
-        let p = percent(f.coverage);
-        let mut t = TextTable::new(
-            &[
-                "measurand",
-                "unit",
-                "estimate",
-                "u",
-                "u rel.",
-                &format!("{p} symmetric"),
-                &format!("{p} shortest"),
-            ],
-            &[false, false, true, true, true, false, false],
-        );
-        for m in &f.measurands {
-            let unit = measurand_unit(m);
-            let s = &m.monte_carlo;
-            let k = unit.factor;
-            let (y, u, e) = value_and_uncertainty(s.estimate / k, s.standard_uncertainty / k);
-            let interval =
-                |(a, b): (f64, f64)| format!("[{}, {}]", fixed(a / k, e), fixed(b / k, e));
-            t.row(vec![
-                m.name.clone(),
-                unit.symbol.clone(),
-                y,
-                u,
-                relative_percent(s.relative_standard_uncertainty()),
-                interval(s.symmetric_interval),
-                interval(s.shortest_interval),
-            ]);
-        }
-        out.push_str(&t.render());
-        out.push_str(
+    let p = percent(f.coverage);
+    let mut t = TextTable::new(
+        &[
+            "measurand",
+            "unit",
+            "estimate",
+            "u",
+            "u rel.",
+            &format!("{p} symmetric"),
+            &format!("{p} shortest"),
+        ],
+        &[false, false, true, true, true, false, false],
+    );
+    for m in &f.measurands {
+        let unit = measurand_unit(m);
+        let s = &m.monte_carlo;
+        let k = unit.factor;
+        let (y, u, e) = value_and_uncertainty(s.estimate / k, s.standard_uncertainty / k);
+        let interval = |(a, b): (f64, f64)| format!("[{}, {}]", fixed(a / k, e), fixed(b / k, e));
+        t.row(vec![
+            m.name.clone(),
+            unit.symbol.clone(),
+            y,
+            u,
+            relative_percent(s.relative_standard_uncertainty()),
+            interval(s.symmetric_interval),
+            interval(s.shortest_interval),
+        ]);
+    }
+    out.push_str(&t.render());
+    out.push_str(
             "u: standard uncertainty; rounded to two significant digits (JCGM 100 7.2.6). Expanded uncertainty U = half the symmetric interval:
 ",
         );
-        for m in &f.measurands {
-            let unit = measurand_unit(m);
-            let s = &m.monte_carlo;
-            let (_, uu, _) = value_and_uncertainty(0.0, s.expanded_uncertainty / unit.factor);
-            let k = s
-                .coverage_factor
-                .map_or("-".to_string(), |k| format!("{k:.2}"));
+    for m in &f.measurands {
+        let unit = measurand_unit(m);
+        let s = &m.monte_carlo;
+        let (_, uu, _) = value_and_uncertainty(0.0, s.expanded_uncertainty / unit.factor);
+        let k = s
+            .coverage_factor
+            .map_or("-".to_string(), |k| format!("{k:.2}"));
+        out.push_str(&format!(
+            "  {}: U = {uu} {} (k = {k})\n",
+            m.name, unit.symbol
+        ));
+    }
+
+    lpu_section(&mut out, f);
+    sensitivity_section(&mut out, f);
+    for m in &f.measurands {
+        budget_section(&mut out, f, m);
+    }
+    correlation_section(&mut out, f);
+    noise_section(&mut out, f);
+    procedure_section(&mut out, f);
+    sweep_section(&mut out, f);
+
+    out.push('\n');
+    let mut t = TextTable::new(
+        &[
+            "input quantity",
+            "distribution",
+            "estimate",
+            "u",
+            "unit",
+            "dof",
+        ],
+        &[false, false, true, true, false, true],
+    );
+    for q in &f.inputs {
+        let u = if q.distribution == "constant" {
+            None
+        } else {
+            Some(q.standard_uncertainty.unwrap_or(f64::INFINITY))
+        };
+        let (est, u, unit) = match u {
+            Some(u) if !u.is_finite() => (
+                exact(q.estimate / q.shown_unit.factor),
+                "infinite".to_string(),
+                q.shown_unit.symbol.clone(),
+            ),
+            _ => input_pair(q.estimate, u, &q.shown_unit, q.dimension),
+        };
+        t.row(vec![
+            q.name.clone(),
+            q.distribution.clone(),
+            est,
+            u,
+            unit,
+            q.dof.map_or(String::new(), |d| format!("{d}")),
+        ]);
+    }
+    out.push_str(&t.render());
+    if !f.input_correlations.is_empty() {
+        out.push_str("correlated inputs (for non-normal inputs the coefficient applies to the normal scores of a Gaussian copula):\n");
+        for c in &f.input_correlations {
             out.push_str(&format!(
-                "  {}: U = {uu} {} (k = {k})\n",
-                m.name, unit.symbol
+                "  r({}, {}) = {}   achieved in the trials: {}\n",
+                c.a,
+                c.b,
+                c.coefficient,
+                c.achieved.map_or("-".to_string(), |r| format!("{r:.4}"))
             ));
         }
-
-        lpu_section(&mut out, f);
-        sensitivity_section(&mut out, f);
-        for m in &f.measurands {
-            budget_section(&mut out, f, m);
-        }
-        correlation_section(&mut out, f);
-        noise_section(&mut out, f);
-        procedure_section(&mut out, f);
-        sweep_section(&mut out, f);
-
-        out.push('\n');
-        let mut t = TextTable::new(
-            &[
-                "input quantity",
-                "distribution",
-                "estimate",
-                "u",
-                "unit",
-                "dof",
-            ],
-            &[false, false, true, true, false, true],
-        );
-        for q in &f.inputs {
-            let u = if q.distribution == "constant" {
-                None
-            } else {
-                Some(q.standard_uncertainty.unwrap_or(f64::INFINITY))
-            };
-            let (est, u, unit) = match u {
-                Some(u) if !u.is_finite() => (
-                    exact(q.estimate / q.shown_unit.factor),
-                    "infinite".to_string(),
-                    q.shown_unit.symbol.clone(),
-                ),
-                _ => input_pair(q.estimate, u, &q.shown_unit, q.dimension),
-            };
-            t.row(vec![
-                q.name.clone(),
-                q.distribution.clone(),
-                est,
-                u,
-                unit,
-                q.dof.map_or(String::new(), |d| format!("{d}")),
-            ]);
-        }
-        out.push_str(&t.render());
-        if !f.input_correlations.is_empty() {
-            out.push_str("correlated inputs (for non-normal inputs the coefficient applies to the normal scores of a Gaussian copula):\n");
-            for c in &f.input_correlations {
-                out.push_str(&format!(
-                    "  r({}, {}) = {}   achieved in the trials: {}\n",
-                    c.a,
-                    c.b,
-                    c.coefficient,
-                    c.achieved.map_or("-".to_string(), |r| format!("{r:.4}"))
-                ));
-            }
-        }
-        if let Some(a) = &f.adaptive {
-            out.push_str(&format!(
+    }
+    if let Some(a) = &f.adaptive {
+        out.push_str(&format!(
                 "adaptive procedure (JCGM 101 7.9.4): {} batches of {} trials, {} to {} significant digits\n",
                 a.batches,
                 grouped(a.batch_trials),
                 if a.converged { "stable" } else { "NOT yet stable" },
                 a.digits
             ));
-        }
+    }
 
-        if !f.variants.is_empty() {
-            out.push_str(&format!(
-                "\nThis file also defines the variants {}: compare them with `radforce compare {}`.\n",
-                f.variants.join(", "),
-                f.file
-            ));
+    if !f.variants.is_empty() {
+        out.push_str(&format!(
+            "\nThis file also defines the variants {}: compare them with `radforce compare {}`.\n",
+            f.variants.join(", "),
+            f.file
+        ));
+    }
+    if !f.warnings.is_empty() {
+        out.push_str("\nwarnings:\n");
+        for w in &f.warnings {
+            out.push_str(&format!("  * {w}\n"));
         }
-        if !f.warnings.is_empty() {
-            out.push_str("\nwarnings:\n");
-            for w in &f.warnings {
-                out.push_str(&format!("  * {w}\n"));
-            }
-        }
+    }
+    out.push('\n');
+    for c in cautions(f.laser) {
+        out.push_str(c);
         out.push('\n');
-        for c in cautions(f.laser) {
-            out.push_str(c);
-            out.push('\n');
-        }
-        out.push_str(&format!("Random streams: {}\n", f.generator));
-        out
+    }
+    out.push_str(&format!("Random streams: {}\n", f.generator));
+    out
 }
 
 fn yes_no(b: bool) -> &'static str {
@@ -432,7 +431,10 @@ fn noise_section(out: &mut String, f: &Findings) {
         coloured.push(format!("flicker floor {}", term(m.flicker, "")));
     }
     if m.random_walk > 0.0 {
-        coloured.push(format!("random walk K = {}", term(m.random_walk, "/sqrt(s)")));
+        coloured.push(format!(
+            "random walk K = {}",
+            term(m.random_walk, "/sqrt(s)")
+        ));
     }
     if m.drift != 0.0 {
         coloured.push(format!("drift {}", term(m.drift * 60.0, "/min")));

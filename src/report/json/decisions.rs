@@ -143,7 +143,13 @@ pub(crate) fn plan_json(p: &PlanFinding) -> PlanJson<'_> {
     let f = &p.verification;
     let m = &f.measurands[p.measurand];
     // A relative target is a pure number; an absolute one is shown in the measurand's unit.
-    let shown = |v: f64| if p.spec.relative { v } else { v / m.unit.factor };
+    let shown = |v: f64| {
+        if p.spec.relative {
+            v
+        } else {
+            v / m.unit.factor
+        }
+    };
     PlanJson {
         plan: PlanBodyJson {
             measurand: &m.name,
@@ -191,4 +197,3 @@ pub(crate) fn plan_json(p: &PlanFinding) -> PlanJson<'_> {
         cautions: cautions(f.laser),
     }
 }
-

@@ -9,8 +9,8 @@ mod planning;
 
 use super::cautions::cautions;
 use super::{Context, Exporter, Report};
-pub(crate) use decisions::{comparison_json, plan_json};
 use crate::analysis::{Findings, MeasurandFinding};
+pub(crate) use decisions::{comparison_json, plan_json};
 use serde::Serialize;
 use serde_json::{Map, Value};
 
@@ -257,7 +257,11 @@ fn measurand_json<'a>(f: &'a Findings, i: usize, m: &'a MeasurandFinding) -> Mea
                 let ix = &r.indices;
                 SensitivityRowJson {
                     input: &r.name,
-                    members: ix.members.iter().map(|j| f.inputs[*j].name.as_str()).collect(),
+                    members: ix
+                        .members
+                        .iter()
+                        .map(|j| f.inputs[*j].name.as_str())
+                        .collect(),
                     first_order: ix.first_order,
                     first_order_interval: pair(ix.first_order_interval, 1.0),
                     total: ix.total,

@@ -91,89 +91,88 @@ struct NoiseComponentJson {
     force_density: f64,
 }
 
-
 /// The `noise` object.
 pub(super) fn noise_json(f: &Findings) -> Option<NoiseJson<'_>> {
     f.noise.as_ref().map(|n| NoiseJson {
-            components: n
-                .components
+        components: n
+            .components
+            .iter()
+            .map(|(source, d)| NoiseComponentJson {
+                source,
+                force_density: *d,
+            })
+            .collect(),
+        force_density: n.density,
+        averaging_time: n.averaging_time,
+        force_resolution: n.resolution,
+        radiation_force: n.force,
+        target_resolution: n.target_resolution,
+        time_for_target: n.time_for_target,
+        convention: crate::physics::noise::PSD_CONVENTION,
+        fit: FitJson {
+            white: n.model.white,
+            flicker: n.model.flicker,
+            random_walk: n.model.random_walk,
+            drift: n.model.drift,
+        },
+        measured: n.measured.as_ref().map(|m| m.source.as_str()),
+        allan: n.measured.as_ref().map_or_else(Vec::new, |m| {
+            m.points
                 .iter()
-                .map(|(source, d)| NoiseComponentJson {
-                    source,
-                    force_density: *d,
+                .zip(&m.fit.residuals)
+                .map(|(p, r)| AllanJson {
+                    tau: p.0,
+                    deviation: p.1,
+                    fitted: r.2,
+                    relative_residual: r.3,
+                    interval: p.2.map(|(a, b)| [a, b]),
                 })
-                .collect(),
-            force_density: n.density,
-            averaging_time: n.averaging_time,
-            force_resolution: n.resolution,
-            radiation_force: n.force,
-            target_resolution: n.target_resolution,
-            time_for_target: n.time_for_target,
-            convention: crate::physics::noise::PSD_CONVENTION,
-            fit: FitJson {
-                white: n.model.white,
-                flicker: n.model.flicker,
-                random_walk: n.model.random_walk,
-                drift: n.model.drift,
-            },
-            measured: n.measured.as_ref().map(|m| m.source.as_str()),
-            allan: n.measured.as_ref().map_or_else(Vec::new, |m| {
-                m.points
-                    .iter()
-                    .zip(&m.fit.residuals)
-                    .map(|(p, r)| AllanJson {
-                        tau: p.0,
-                        deviation: p.1,
-                        fitted: r.2,
-                        relative_residual: r.3,
-                        interval: p.2.map(|(a, b)| [a, b]),
-                    })
-                    .collect()
-            }),
-        })
+                .collect()
+        }),
+    })
 }
 
 /// The `forecast` object.
 pub(super) fn forecast_json(f: &Findings) -> Option<ForecastJson<'_>> {
     f.forecast.as_ref().map(|x| ForecastJson {
-            power: x.power,
-            predicted: PredictedJson {
-                input: &x.input,
-                value: x.value,
-                unit: x.unit.symbol.clone(),
-            },
-        })
+        power: x.power,
+        predicted: PredictedJson {
+            input: &x.input,
+            value: x.value,
+            unit: x.unit.symbol.clone(),
+        },
+    })
 }
 
 /// The `procedure` object.
 pub(super) fn procedure_json(f: &Findings) -> Option<ProcedureJson> {
     f.procedure.as_ref().map(|p| {
-            let pr = &p.procedure;
-            ProcedureJson {
-                pattern: pr.pattern.name(),
-                cycles: pr.cycles,
-                on_time: pr.on_time,
-                off_time: pr.off_time,
-                settle_time: pr.settle_time,
-                total_time: p.total_time,
-                estimator_sd: p.estimator_sd,
-                terms: TermsJson {
-                    white: p.terms.white,
-                    flicker: p.terms.flicker,
-                    random_walk: p.terms.random_walk,
-                    drift_bias: p.terms.drift_bias,
-                },
-                settling_factor: p.settling_factor,
-                heating_settling_factor: p.heating_settling_factor,
-                target_resolution: p.target_resolution,
-                cycles_for_target: p.cycles_for_target,
-                best_phase: p.best.as_ref().map(|(b, t)| BestPhaseJson {
-                    on_time: b.on_time,
-                    off_time: b.off_time,
-                    cycles: b.cycles,
-                    total_time: b.total_time(),
-                    estimator_sd: t.standard_uncertainty(),
-                }),
-            }
-        })
+        let pr = &p.procedure;
+        ProcedureJson {
+            pattern: pr.pattern.name(),
+            cycles: pr.cycles,
+            on_time: pr.on_time,
+            off_time: pr.off_time,
+            settle_time: pr.settle_time,
+            total_time: p.total_time,
+            estimator_sd: p.estimator_sd,
+            terms: TermsJson {
+                white: p.terms.white,
+                flicker: p.terms.flicker,
+                random_walk: p.terms.random_walk,
+                drift_bias: p.terms.drift_bias,
+            },
+            settling_factor: p.settling_factor,
+            heating_settling_factor: p.heating_settling_factor,
+            target_resolution: p.target_resolution,
+            cycles_for_target: p.cycles_for_target,
+            best_phase: p.best.as_ref().map(|(b, t)| BestPhaseJson {
+                on_time: b.on_time,
+                off_time: b.off_time,
+                cycles: b.cycles,
+                total_time: b.total_time(),
+                estimator_sd: t.standard_uncertainty(),
+            }),
+        }
+    })
 }
