@@ -126,6 +126,7 @@ const NAMED_DIMENSIONS: &[(Dimension, &str)] = &[
     (Dimension::TORSION_CONSTANT, "N m/rad"),
     (Dimension::MOMENT_OF_INERTIA, "kg m^2"),
     (Dimension::ACCELERATION, "m/s^2"),
+    (Dimension::FORCE_PER_POWER, "N/W"),
 ];
 
 const KINDS: &[(Dimension, &str, &str)] = &[
@@ -153,6 +154,11 @@ const KINDS: &[(Dimension, &str, &str)] = &[
         Dimension::ACCELERATION,
         "an acceleration",
         "\"9.80665 m/s^2\"",
+    ),
+    (
+        Dimension::FORCE_PER_POWER,
+        "a force per power",
+        "\"3.3 nN/W\"",
     ),
 ];
 
@@ -478,6 +484,7 @@ fn prefix_base(symbol: &str) -> Option<(&'static str, f64)> {
         "K" => Some(("K", 1.0)),
         "N m" => Some(("N m", 1.0)),
         "N m/rad" => Some(("N m/rad", 1.0)),
+        "N/W" => Some(("N/W", 1.0)),
         _ => None,
     }
 }

@@ -33,6 +33,8 @@ value = 5e-5
 value = 1e-4
 [inputs.bounces]
 value = 3
+[inputs.fold_reflectance]
+value = 0.9997
 [inputs.quality_factor]
 value = 3000
 [inputs.stray_force]

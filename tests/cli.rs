@@ -92,9 +92,9 @@ fn bad_files_exit_2_naming_the_key_and_write_nothing() {
         "did you mean `normal`",
     );
     assert_refused(
-        &GOOD.replace("a * b", "a * c"),
+        &GOOD.replace("a * b", "a * q"),
         "measurands.y.formula",
-        "unknown name `c`",
+        "unknown name `q`",
     );
     assert_refused(
         &GOOD.replace("trials = 20_000", "trials = 0"),

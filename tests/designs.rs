@@ -46,7 +46,7 @@ fn weighing_chain_reference_values() {
         out[0]
     );
     let text = IDEAL_BALANCE.replace("value = \"1 kW\"", "value = \"10 W\"")
-        + "[inputs.bounces]\nvalue = 33\n";
+        + "[inputs.bounces]\nvalue = 33\n[inputs.fold_reflectance]\nvalue = 1\n";
     let s = load_str(&text, "bounces.toml").unwrap();
     let x: Vec<f64> = s.inputs.iter().map(|q| q.estimate()).collect();
     let out = s.model.evaluate_point(&x);

@@ -4,7 +4,7 @@
 
 use proptest::prelude::*;
 use radforce::engine::{Plan, simulate};
-use radforce::model::formula::{Expr, Func, compile, parse};
+use radforce::model::formula::{Expr, Func, compile, constant, parse};
 use radforce::scenario::load_str;
 use radforce::stats::intervals::{coverage_intervals, q_index};
 use radforce::stats::moments::Moments;
@@ -168,8 +168,10 @@ fn token() -> impl Strategy<Value = String> {
     prop_oneof![
         Just("a".to_string()),
         Just("b".to_string()),
-        Just("c".to_string()),
+        Just("z".to_string()),
         Just("pi".to_string()),
+        Just("g_n".to_string()),
+        Just("c".to_string()),
         Just("+".to_string()),
         Just("-".to_string()),
         Just("*".to_string()),
@@ -197,7 +199,7 @@ proptest! {
     #[test]
     fn random_formulas_never_panic(tokens in prop::collection::vec(token(), 0..24), x in prop::array::uniform3(-10.0f64..10.0)) {
         let text: String = tokens.concat();
-        let resolve = |n: &str| match n { "a" => Ok(0), "b" => Ok(1), "c" => Ok(2), _ => Err(format!("unknown `{n}`")) };
+        let resolve = |n: &str| match n { "a" => Ok(0), "b" => Ok(1), "z" => Ok(2), _ => Err(format!("unknown `{n}`")) };
         match parse(&text).and_then(|e| compile(&e, &resolve)) {
             Ok((program, _)) => {
                 let mut stack = vec![0.0; program.depth().max(1)];
@@ -212,7 +214,8 @@ proptest! {
 fn expr() -> impl Strategy<Value = Expr> {
     let leaf = prop_oneof![
         (-5.0f64..5.0).prop_map(Expr::Number),
-        prop_oneof![Just("a"), Just("b"), Just("c")].prop_map(|n| Expr::Name(n.to_string(), 0, 1)),
+        prop_oneof![Just("a"), Just("b"), Just("z")].prop_map(|n| Expr::Name(n.to_string(), 0, 1)),
+        Just(Expr::Constant(constant("g_n").unwrap(), 0, 3)),
     ];
     leaf.prop_recursive(5, 40, 3, |inner| {
         prop_oneof![
@@ -243,6 +246,7 @@ fn show(e: &Expr) -> String {
     match e {
         Expr::Number(v) => format!("({v:e})"),
         Expr::Name(n, _, _) => n.clone(),
+        Expr::Constant(c, _, _) => c.name.to_string(),
         Expr::Neg(x) => format!("(-{})", show(x)),
         Expr::Binary(op, a, b) => format!("({} {op} {})", show(a), show(b)),
         Expr::Call(f, args) => {
@@ -266,6 +270,7 @@ fn show(e: &Expr) -> String {
 fn direct(e: &Expr, x: &[f64; 3]) -> f64 {
     match e {
         Expr::Number(v) => *v,
+        Expr::Constant(c, _, _) => c.value,
         Expr::Name(n, _, _) => {
             x[match n.as_str() {
                 "a" => 0,
@@ -306,7 +311,7 @@ proptest! {
     #[test]
     fn printed_formulas_evaluate_like_their_trees(e in expr(), x in prop::array::uniform3(-3.0f64..3.0)) {
         let text = show(&e);
-        let resolve = |n: &str| match n { "a" => Ok(0), "b" => Ok(1), "c" => Ok(2), _ => Err(String::new()) };
+        let resolve = |n: &str| match n { "a" => Ok(0), "b" => Ok(1), "z" => Ok(2), _ => Err(String::new()) };
         let (program, _) = compile(&parse(&text).unwrap(), &resolve).unwrap();
         let mut stack = vec![0.0; program.depth().max(1)];
         program.eval_block(&x, 1, 1, &mut stack);

@@ -250,7 +250,7 @@ sd = 0.1
 dist = "normal"
 mean = 2
 sd = 0.3
-[inputs.c]
+[inputs.z]
 dist = "rectangular"
 min = 0
 max = 1
@@ -258,14 +258,14 @@ max = 1
 between = ["a", "b"]
 coefficient = 0.6
 [measurands.s]
-formula = "a + b + c"
+formula = "a + b + z"
 [measurands.d]
 formula = "a - b"
 "#;
 
 // JCGM 101 6.4.8 (multivariate normal by Cholesky): the sample correlation of a correlated
 // normal pair is within 4 standard errors of r (se about (1 - r^2)/sqrt(M) = 0.0008); the LPU
-// with u(a, b) = r u_a u_b (JCGM 100 eq. 14) gives var(a + b + c) = 0.01 + 0.09 + 2 r 0.03 +
+// with u(a, b) = r u_a u_b (JCGM 100 eq. 14) gives var(a + b + z) = 0.01 + 0.09 + 2 r 0.03 +
 // 1/12 [calc], and the Monte Carlo u matches it.
 #[test]
 fn a_correlated_normal_pair_reproduces_its_coefficient() {
@@ -363,16 +363,16 @@ fn bad_correlations_are_refused_naming_the_pair() {
         "itself",
     );
     let constant = PAIR.replace(
-        "[inputs.c]\ndist = \"rectangular\"\nmin = 0\nmax = 1",
-        "[inputs.c]\nvalue = 0.5",
+        "[inputs.z]\ndist = \"rectangular\"\nmin = 0\nmax = 1",
+        "[inputs.z]\nvalue = 0.5",
     );
     refused(
-        &constant.replace("between = [\"a\", \"b\"]", "between = [\"a\", \"c\"]"),
-        "`c` is a constant",
+        &constant.replace("between = [\"a\", \"b\"]", "between = [\"a\", \"z\"]"),
+        "`z` is a constant",
     );
     let three = format!(
-        "{PAIR}\n[[correlation]]\nbetween = [\"b\", \"c\"]\ncoefficient = 0.9\n[[correlation]]\nbetween = [\"a\", \"c\"]\ncoefficient = -0.9\n"
+        "{PAIR}\n[[correlation]]\nbetween = [\"b\", \"z\"]\ncoefficient = 0.9\n[[correlation]]\nbetween = [\"a\", \"z\"]\ncoefficient = -0.9\n"
     );
     refused(&three, "not positive semi-definite");
-    refused(&three, "(a, c)");
+    refused(&three, "(a, z)");
 }

@@ -111,6 +111,8 @@ pub fn procedure_finding(study: &Study) -> Option<ProcedureFinding> {
     let inputs = InputValues {
         estimate: &estimate,
         upper: &no_upper,
+        lower: &no_upper,
+        procedure: true,
     };
     let instrument = study
         .chain

@@ -1,9 +1,9 @@
 //! What a built-in measurement chain is: the [`Chain`] trait (its spec, its evaluation over the
 //! model's number type, its own noise terms and cross-checks), the description of its inputs and
-//! measurands, and the pieces every chain shares (the mirror and beam inputs and their checks).
-//! The chains themselves live in their own files and are listed once in `model/mod.rs`.
+//! measurands, the inputs a scenario may give instead of others, and the pieces every chain
+//! shares (heating, the noise force). The mirror, beam and optical path are in `model/optics.rs`;
+//! the chains themselves live in their own files and are listed once in `model/mod.rs`.
 
-use crate::physics::beam::{aperture_radius_for_fraction, gaussian_aperture_fraction};
 use crate::physics::noise::NoiseSettings;
 use crate::physics::procedure::Procedure;
 use crate::physics::response::{Instrument, settling_factor};
@@ -28,6 +28,49 @@ pub enum Domain {
     QualityFactor,
     /// A whole count of at least 1, given as a constant.
     Count,
+    /// A refractive index of 1 or more (a gas or a liquid at optical frequencies).
+    RefractiveIndex,
+}
+
+/// The part of the apparatus an input belongs to, for the budget by subsystem.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Subsystem {
+    /// The laser beam: its power, size, polarisation, alignment.
+    Beam,
+    /// The mirror (and the fold mirror): coatings, size, tilt, bounces.
+    Mirror,
+    /// The balance or pendulum: its constants, geometry, response.
+    Balance,
+    /// What turns the motion into a number: the optical lever, the balance indication.
+    Readout,
+    /// The surroundings: gravity, the medium, stray and heating forces.
+    Environment,
+    /// The noise left after averaging.
+    Noise,
+}
+
+impl Subsystem {
+    /// Every subsystem, in the order reports list them.
+    pub const ALL: [Subsystem; 6] = [
+        Subsystem::Beam,
+        Subsystem::Mirror,
+        Subsystem::Balance,
+        Subsystem::Readout,
+        Subsystem::Environment,
+        Subsystem::Noise,
+    ];
+
+    /// Its name in scenarios and reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Subsystem::Beam => "beam",
+            Subsystem::Mirror => "mirror",
+            Subsystem::Balance => "balance",
+            Subsystem::Readout => "readout",
+            Subsystem::Environment => "environment",
+            Subsystem::Noise => "noise",
+        }
+    }
 }
 
 /// One input quantity of a chain.
@@ -41,6 +84,8 @@ pub struct ChainInput {
     pub default: Option<f64>,
     /// Where its values must lie.
     pub domain: Domain,
+    /// The part of the apparatus it belongs to.
+    pub subsystem: Subsystem,
     /// What it is, in the trade's words.
     pub description: &'static str,
 }
@@ -51,6 +96,7 @@ pub(crate) const fn input(
     dimension: Dimension,
     default: Option<f64>,
     domain: Domain,
+    subsystem: Subsystem,
     description: &'static str,
 ) -> ChainInput {
     ChainInput {
@@ -58,56 +104,25 @@ pub(crate) const fn input(
         dimension,
         default,
         domain,
+        subsystem,
         description,
     }
 }
 
-/// The mirror and beam inputs every chain takes, in this order: R, theta, w, a, T, Rd (the
-/// terms of `physics::momentum::normal_force_factor` and `physics::beam`).
-pub(crate) const MIRROR_AND_BEAM_INPUTS: [ChainInput; 6] = [
-    input(
-        "reflectance",
-        Dimension::NONE,
-        None,
-        Domain::UnitInterval,
-        "specular reflectance R of the mirror",
-    ),
-    input(
-        "incidence",
-        Dimension::ANGLE,
-        None,
-        Domain::Incidence,
-        "angle of incidence theta on the mirror",
-    ),
-    input(
-        "beam_radius",
-        Dimension::LENGTH,
-        None,
-        Domain::Positive,
-        "1/e^2 radius w of the Gaussian beam at the mirror",
-    ),
-    input(
-        "mirror_radius",
-        Dimension::LENGTH,
-        None,
-        Domain::Positive,
-        "radius a of the (centred, circular) mirror",
-    ),
-    input(
-        "transmittance",
-        Dimension::NONE,
-        Some(0.0),
-        Domain::UnitInterval,
-        "transmittance T of the mirror (default 0)",
-    ),
-    input(
-        "diffuse_reflectance",
-        Dimension::NONE,
-        Some(0.0),
-        Domain::UnitInterval,
-        "diffuse (Lambertian) reflectance Rd (default 0)",
-    ),
-];
+/// Inputs a scenario may give instead of others: `instead` all together replace `usual` (of
+/// which at most `usual_kept` may still be given, for what else they tell). The inputs of both
+/// lists have no default; the chain reads which were given from [`ChainContext::given`].
+#[derive(Clone, Copy, Debug)]
+pub struct Alternative {
+    /// The inputs the chain takes unless the alternative is given.
+    pub usual: &'static [&'static str],
+    /// The inputs that replace them, all of them together.
+    pub instead: &'static [&'static str],
+    /// How many of `usual` may be given beside `instead`.
+    pub usual_kept: usize,
+    /// Why they exclude each other, for the message that refuses both.
+    pub why: &'static str,
+}
 
 /// The heating of the sensed mirror, which every chain takes after the noise: the force the
 /// balance shows per watt absorbed on the sensed mirror, and its first-order time constant.
@@ -117,6 +132,7 @@ pub const HEATING_INPUTS: [ChainInput; 2] = [
         Dimension::FORCE_PER_POWER,
         Some(0.0),
         Domain::Any,
+        Subsystem::Environment,
         "force on the balance per watt absorbed on the sensed mirror (warm air and mount), default 0",
     ),
     input(
@@ -124,19 +140,40 @@ pub const HEATING_INPUTS: [ChainInput; 2] = [
         Dimension::TIME,
         Some(0.0),
         Domain::Positive,
+        Subsystem::Environment,
         "first-order time constant of the heating force (default: none, it follows at once)",
     ),
 ];
 
 /// What a chain's evaluation needs besides its inputs: the planned measurement, whose
-/// estimator sees the instrument's response (the settling factor).
+/// estimator sees the instrument's response (the settling factor), and which of its inputs the
+/// scenario gives (for the inputs that replace others, [`Alternative`]).
 #[derive(Clone, Copy, Debug, Default, PartialEq)]
 pub struct ChainContext {
     /// The on/off procedure, if the scenario plans one.
     pub procedure: Option<Procedure>,
+    /// Bit i set when the scenario gives the chain's input i (in spec order).
+    pub given: u64,
 }
 
 impl ChainContext {
+    /// Whether the scenario gives the chain's input at `index` (spec order).
+    #[inline(always)]
+    pub fn given(&self, index: usize) -> bool {
+        self.given >> index & 1 == 1
+    }
+
+    /// The same context with every input in `names` of `spec` marked as given (for tests and
+    /// for chains evaluated outside a scenario).
+    pub fn giving(mut self, spec: &ChainSpec, names: &[&str]) -> ChainContext {
+        for n in names {
+            if let Some(i) = spec.input_index(n) {
+                self.given |= 1 << i;
+            }
+        }
+        self
+    }
+
     /// The settling factors of the radiation force and of the heating force (after its lag)
     /// for an instrument: the estimator applied to their responses to a unit on/off pattern
     /// (physics::response); both 1 without a procedure (a static reading).
@@ -158,6 +195,7 @@ pub(crate) const NOISE_FORCE_INPUT: ChainInput = input(
     Dimension::FORCE,
     Some(0.0),
     Domain::Any,
+    Subsystem::Noise,
     "zero-mean force noise left after averaging (made from [noise]), default 0",
 );
 
@@ -201,12 +239,94 @@ pub struct ChainSpec {
     pub inputs: &'static [ChainInput],
     /// Measurands in the order [`Chain::evaluate`] writes them.
     pub measurands: &'static [ChainMeasurand],
+    /// Inputs a scenario may give instead of others.
+    pub alternatives: &'static [Alternative],
 }
 
 impl ChainSpec {
     /// Position of an input by name.
     pub(crate) fn input_index(&self, name: &str) -> Option<usize> {
         self.inputs.iter().position(|i| i.name == name)
+    }
+
+    /// The inputs a scenario gives, as the mask of [`ChainContext::given`].
+    pub(crate) fn given_mask(&self, given: &dyn Fn(&str) -> bool) -> u64 {
+        self.inputs
+            .iter()
+            .enumerate()
+            .filter(|(_, c)| given(c.name))
+            .fold(0, |m, (i, _)| m | 1 << i)
+    }
+
+    /// Whether an input with no default may be left out: it replaces others and none of its
+    /// group is given, or it is replaced by a group that is given.
+    pub(crate) fn excused(&self, name: &str, given: &dyn Fn(&str) -> bool) -> bool {
+        self.alternatives.iter().any(|alt| {
+            let instead_given = alt.instead.iter().any(|n| given(n));
+            (alt.instead.contains(&name) && !instead_given)
+                || (alt.usual.contains(&name) && instead_given)
+        })
+    }
+
+    /// Refuse a group given in part, or given beside more of what it replaces than it keeps.
+    pub(crate) fn check_alternatives(
+        &self,
+        given: &dyn Fn(&str) -> bool,
+    ) -> Result<(), ChainIssue> {
+        for alt in self.alternatives {
+            let have: Vec<&'static str> =
+                alt.instead.iter().copied().filter(|n| given(n)).collect();
+            if have.is_empty() {
+                continue;
+            }
+            if have.len() < alt.instead.len() {
+                let lacking: Vec<&str> =
+                    alt.instead.iter().copied().filter(|n| !given(n)).collect();
+                return Err(ChainIssue {
+                    key: "",
+                    inputs: alt.instead,
+                    message: format!(
+                        "{} go together: the scenario gives {} but not {}",
+                        names(alt.instead),
+                        names(&have),
+                        names(&lacking)
+                    ),
+                    example: format!(
+                        "[inputs.{}]\nvalue = {}",
+                        lacking[0],
+                        self.inputs
+                            .iter()
+                            .find(|c| c.name == lacking[0])
+                            .map_or("1", |c| c.dimension.example())
+                    ),
+                });
+            }
+            let kept: Vec<&'static str> = alt.usual.iter().copied().filter(|n| given(n)).collect();
+            if kept.len() > alt.usual_kept {
+                return Err(ChainIssue {
+                    key: "",
+                    inputs: alt.usual,
+                    message: format!(
+                        "give {} or {}, not both: {}",
+                        names(alt.usual),
+                        names(alt.instead),
+                        alt.why
+                    ),
+                    example: format!("remove [inputs.{}]", kept[0]),
+                });
+            }
+        }
+        Ok(())
+    }
+}
+
+/// `a`, `a` and `b`, `a`, `b` and `c`: input names for messages.
+fn names(list: &[&str]) -> String {
+    let quoted: Vec<String> = list.iter().map(|n| format!("`{n}`")).collect();
+    match quoted.len() {
+        0 => String::new(),
+        1 => quoted[0].clone(),
+        n => format!("{} and {}", quoted[..n - 1].join(", "), quoted[n - 1]),
     }
 }
 
@@ -238,13 +358,25 @@ impl ChainIssue {
 }
 
 /// What a chain can know of the scenario's inputs before a run: an input's estimate (or the
-/// chain's default when the scenario leaves it out) and the upper end of its distribution (the
-/// quantile at 1 - 1e-12, the value itself for a constant), by name.
+/// chain's default when the scenario leaves it out), the ends of its distribution (the
+/// quantiles at 1e-12 and 1 - 1e-12, the value itself for a constant), by name, and whether an
+/// on/off procedure is planned.
 pub(crate) struct InputValues<'a> {
     /// The estimate of an input by name (the chain default when the scenario leaves it out).
     pub(crate) estimate: &'a dyn Fn(&str) -> Option<f64>,
     /// The upper end of an input the scenario defines, by name.
     pub(crate) upper: &'a dyn Fn(&str) -> Option<f64>,
+    /// The lower end of an input the scenario defines, by name.
+    pub(crate) lower: &'a dyn Fn(&str) -> Option<f64>,
+    /// Whether the scenario plans an on/off procedure (`[procedure]`).
+    pub(crate) procedure: bool,
+}
+
+impl InputValues<'_> {
+    /// Whether the scenario defines the input `name`.
+    pub(crate) fn given(&self, name: &str) -> bool {
+        (self.upper)(name).is_some()
+    }
 }
 
 /// How a calibration chain forecasts its observed signal for a meter that does not exist yet:
@@ -295,46 +427,8 @@ pub(crate) trait Chain {
     }
 
     /// Checks across inputs at load (each input alone is checked against its `Domain`):
-    /// warnings, or an issue that refuses the scenario. By default the mirror checks.
+    /// warnings, or an issue that refuses the scenario. By default the optics checks.
     fn cross_checks(inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
-        mirror_checks(inputs)
+        super::optics::optics_checks(inputs)
     }
-}
-
-/// The checks of the mirror and beam inputs: R + T + Rd must not exceed 1 anywhere in their
-/// distributions (the absorptance would be negative); a warning when more than 1 % of the
-/// Gaussian beam misses the mirror.
-pub(crate) fn mirror_checks(inputs: &InputValues<'_>) -> Result<Vec<String>, ChainIssue> {
-    let upper = |n: &str| (inputs.upper)(n).unwrap_or(0.0);
-    let (r, t, rd) = (
-        upper("reflectance"),
-        upper("transmittance"),
-        upper("diffuse_reflectance"),
-    );
-    if r + t + rd > 1.0 + 1e-12 {
-        return Err(ChainIssue {
-            key: "inputs.reflectance",
-            inputs: &["reflectance", "transmittance", "diffuse_reflectance"],
-            message: format!(
-                "reflectance + transmittance + diffuse_reflectance can exceed 1 (their upper ends are {r:.6} + {t:.6} + {rd:.6} = {:.6}), which would make the absorptance negative",
-                r + t + rd
-            ),
-            example: "reflectance in [0.9990, 0.9995] with transmittance = 1e-4".into(),
-        });
-    }
-    let mut warnings = Vec::new();
-    let defined = |n: &str| (inputs.upper)(n).and((inputs.estimate)(n));
-    if let (Some(a), Some(w)) = (defined("mirror_radius"), defined("beam_radius")) {
-        let eta = gaussian_aperture_fraction(a, w);
-        if eta < 0.99 {
-            warnings.push(format!(
-                "only {:.2} % of the beam falls on the mirror (mirror_radius {:.4} mm, beam_radius {:.4} mm): the chain corrects for the clipped fraction eta = 1 - exp(-2 a^2 / w^2), but light diffracted at the mirror edge is not modelled; a mirror radius of {:.3} mm or more catches 99 %",
-                100.0 * eta,
-                a * 1e3,
-                w * 1e3,
-                aperture_radius_for_fraction(0.99, w) * 1e3
-            ));
-        }
-    }
-    Ok(warnings)
 }

@@ -8,6 +8,7 @@
 
 pub mod chain;
 pub mod formula;
+pub(crate) mod optics;
 
 pub(crate) use chain::{
     Chain, ChainContext, ChainInput, ChainIssue, ChainSpec, Domain, InputValues,
@@ -133,7 +134,7 @@ pub(crate) enum ArgSource {
 }
 
 /// The most arguments a chain takes.
-pub(crate) const MAX_CHAIN_ARGS: usize = 24;
+pub(crate) const MAX_CHAIN_ARGS: usize = 32;
 /// The most measurands a chain gives.
 pub(crate) const MAX_CHAIN_OUTPUTS: usize = 8;
 

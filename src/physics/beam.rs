@@ -1,5 +1,5 @@
-//! The laser beam: intensity of top-hat and Gaussian profiles, the fraction of a Gaussian beam
-//! that a centred circular mirror intercepts, and plane-wave field amplitudes.
+//! The laser beam: intensity of top-hat and Gaussian profiles and plane-wave field amplitudes
+//! (the fraction a mirror catches is in `physics::clipping`).
 
 use super::constants::{SPEED_OF_LIGHT, VACUUM_PERMITTIVITY};
 use crate::scalar::Scalar;
@@ -21,25 +21,6 @@ pub fn gaussian_intensity<T: Scalar>(p: T, w: T, r: T) -> T {
     gaussian_peak_intensity(p, w) * (T::cst(-2.0) * r * r / (w * w)).exp()
 }
 
-/// Fraction of a Gaussian beam's power (1/e^2 radius `w`) that falls on a centred circular
-/// mirror or aperture of radius `a`: eta = 1 - exp(-2 a^2 / w^2) (Siegman 1986, 17.1),
-/// computed as -expm1 when the mirror is small (2 a^2 / w^2 < 1/2, where 1 - exp loses digits)
-/// and as 1 - exp otherwise (the cheaper function, exact to rounding there).
-pub fn gaussian_aperture_fraction<T: Scalar>(a: T, w: T) -> T {
-    let x = T::cst(-2.0) * a * a / (w * w);
-    if x.value() > -0.5 {
-        -(x.exp_m1())
-    } else {
-        T::cst(1.0) - x.exp()
-    }
-}
-
-/// The aperture radius that passes the fraction `f` of a Gaussian beam:
-/// a = w sqrt(-ln(1 - f) / 2) (inverse of [`gaussian_aperture_fraction`]).
-pub fn aperture_radius_for_fraction(f: f64, w: f64) -> f64 {
-    w * (-(-f).ln_1p() / 2.0).sqrt()
-}
-
 /// Peak electric field of a plane wave of intensity `i`: E0 = sqrt(2 I / (c eps0))
 /// (Jackson, Classical Electrodynamics, 3rd ed., 7.1; I = c eps0 E0^2 / 2).
 pub fn electric_field_amplitude<T: Scalar>(i: T) -> T {
@@ -57,28 +38,13 @@ mod tests {
     use approx::assert_relative_eq;
 
     // REFERENCES 5, Gaussian beam [calc]: 1 W, w = 1 mm: I0 = 6.37e5 W/m^2, E0 = 21.9 kV/m,
-    // B0 = 7.31e-5 T; a = w passes 0.8647; 99 % needs a = 1.517 w [trade].
+    // B0 = 7.31e-5 T (the fractions a mirror catches are checked in physics::clipping).
     #[test]
     fn gaussian_beam_values() {
         let i0 = gaussian_peak_intensity(1.0, 1e-3);
         assert_relative_eq!(i0, 6.366e5, max_relative = 1e-3);
         assert_relative_eq!(electric_field_amplitude(i0), 21.9e3, max_relative = 2e-3);
         assert_relative_eq!(magnetic_field_amplitude(i0), 7.31e-5, max_relative = 2e-3);
-        assert_relative_eq!(
-            gaussian_aperture_fraction(1.0, 1.0),
-            0.8647,
-            max_relative = 1e-4
-        );
-        assert_relative_eq!(
-            aperture_radius_for_fraction(0.99, 1.0),
-            1.517,
-            max_relative = 1e-3
-        );
-        assert_relative_eq!(
-            gaussian_aperture_fraction(aperture_radius_for_fraction(0.99, 2e-3), 2e-3),
-            0.99,
-            max_relative = 1e-12
-        );
     }
 
     // REFERENCES 5, top-hat beam [calc]: 20 mW over 0.5 mm radius: I = 2.546e4 W/m^2,

@@ -6,6 +6,7 @@
 
 pub mod balance;
 pub mod beam;
+pub mod clipping;
 pub mod constants;
 pub mod momentum;
 pub mod noise;

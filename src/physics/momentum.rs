@@ -11,20 +11,24 @@
 use super::constants::SPEED_OF_LIGHT;
 use crate::scalar::Scalar;
 
-/// The normal-force factor g = (1 + R - T) cos(theta) + (2/3) Rd, so that Fn = g P / c.
+/// The normal-force factor g = (1 + R - T) cos(theta) + (2/3) Rd, so that Fn = g P / c, from
+/// the cosine of the angle of incidence (computed once by the caller).
+#[inline(always)]
 pub fn normal_force_factor<T: Scalar>(
     reflectance: T,
     transmittance: T,
     diffuse_reflectance: T,
-    incidence: T,
+    cos_incidence: T,
 ) -> T {
-    (T::cst(1.0) + reflectance - transmittance) * incidence.cos()
+    (T::cst(1.0) + reflectance - transmittance) * cos_incidence
         + T::cst(2.0 / 3.0) * diffuse_reflectance
 }
 
-/// The tangential-force factor (1 - R - T) sin(theta), so that Ft = factor P / c.
-pub fn tangential_force_factor<T: Scalar>(reflectance: T, transmittance: T, incidence: T) -> T {
-    (T::cst(1.0) - reflectance - transmittance) * incidence.sin()
+/// The tangential-force factor (1 - R - T) sin(theta), so that Ft = factor P / c, from the sine
+/// of the angle of incidence.
+#[inline(always)]
+pub fn tangential_force_factor<T: Scalar>(reflectance: T, transmittance: T, sin_incidence: T) -> T {
+    (T::cst(1.0) - reflectance - transmittance) * sin_incidence
 }
 
 /// Radiation force of a beam of power `p` on a surface with force factor `factor`:
@@ -51,8 +55,8 @@ pub fn bounce_sum<T: Scalar>(reflectance: T, bounces: u32) -> T {
 }
 
 /// Normal force of a beam making `n` reflections, each at incidence `theta` on mirrors of
-/// reflectance `R` that all sit on the sensed body (no transmission, no scatter):
-/// F = (P/c)(1 + R) cos(theta) (1 - R^n)/(1 - R).
+/// reflectance `R` that all sit on the sensed body and a perfect fold (no transmission, no
+/// scatter): F = (P/c)(1 + R) cos(theta) (1 - R^n)/(1 - R).
 pub fn multi_bounce_force<T: Scalar>(p: T, reflectance: T, incidence: T, bounces: u32) -> T {
     radiation_force(
         p,
@@ -70,13 +74,13 @@ mod tests {
     // perfect mirror at 45 deg 4.7173 nN/W; 1 kW on a normal mirror 6.671 uN.
     #[test]
     fn force_per_watt() {
-        let absorber = radiation_force(1.0, normal_force_factor(0.0, 0.0, 0.0, 0.0));
+        let absorber = radiation_force(1.0, normal_force_factor(0.0, 0.0, 0.0, 1.0));
         assert_relative_eq!(absorber, 3.3356e-9, max_relative = 1e-4);
-        let mirror = radiation_force(1.0, normal_force_factor(1.0, 0.0, 0.0, 0.0));
+        let mirror = radiation_force(1.0, normal_force_factor(1.0, 0.0, 0.0, 1.0));
         assert_relative_eq!(mirror, 6.6713e-9, max_relative = 1e-4);
-        let tilted = radiation_force(1.0, normal_force_factor(1.0, 0.0, 0.0, FRAC_PI_4));
+        let tilted = radiation_force(1.0, normal_force_factor(1.0, 0.0, 0.0, FRAC_PI_4.cos()));
         assert_relative_eq!(tilted, 4.7173e-9, max_relative = 1e-4);
-        let kw = radiation_force(1000.0, normal_force_factor(1.0, 0.0, 0.0, 0.0));
+        let kw = radiation_force(1000.0, normal_force_factor(1.0, 0.0, 0.0, 1.0));
         assert_relative_eq!(kw, 6.671e-6, max_relative = 1e-4);
     }
 
@@ -85,17 +89,17 @@ mod tests {
     // tangential force, an absorber at 45 deg feels sin(45 deg) P/c.
     #[test]
     fn limiting_surfaces() {
-        let a = normal_force_factor(0.0, 0.0, 0.0, 0.0);
-        let m = normal_force_factor(1.0, 0.0, 0.0, 0.0);
+        let a = normal_force_factor(0.0, 0.0, 0.0, 1.0);
+        let m = normal_force_factor(1.0, 0.0, 0.0, 1.0);
         assert_relative_eq!(m, 2.0 * a);
-        assert_relative_eq!(normal_force_factor(0.0, 1.0, 0.0, 0.3), 0.0);
-        assert_relative_eq!(tangential_force_factor(1.0, 0.0, FRAC_PI_4), 0.0);
+        assert_relative_eq!(normal_force_factor(0.0, 1.0, 0.0, 0.3f64.cos()), 0.0);
+        assert_relative_eq!(tangential_force_factor(1.0, 0.0, FRAC_PI_4.sin()), 0.0);
         assert_relative_eq!(
-            tangential_force_factor(0.0, 0.0, FRAC_PI_4),
+            tangential_force_factor(0.0, 0.0, FRAC_PI_4.sin()),
             FRAC_PI_4.sin()
         );
         // A perfect Lambertian reflector: 1 + 2/3.
-        assert_relative_eq!(normal_force_factor(0.0, 0.0, 1.0, 0.0), 5.0 / 3.0);
+        assert_relative_eq!(normal_force_factor(0.0, 0.0, 1.0, 1.0), 5.0 / 3.0);
     }
 
     // REFERENCES 5, sunlight at 1 au on a normal mirror: 2 x 1361 / c = 9.080 uPa [calc].

@@ -37,9 +37,14 @@ pub(crate) fn fixed(x: f64, e: i32) -> String {
     }
 }
 
-/// A value and its uncertainty by the GUM rule, in the same unit: ("25.013", "0.052", e).
+/// A value and its uncertainty by the GUM rule, in the same unit: ("25.013", "0.052", e). A
+/// value with no uncertainty (a constant) keeps six significant digits.
 pub(crate) fn value_and_uncertainty(x: f64, u: f64) -> (String, String, i32) {
-    let e = last_digit_exponent(u, 2);
+    let e = if u == 0.0 && x != 0.0 && x.is_finite() {
+        last_digit_exponent(x.abs(), 6)
+    } else {
+        last_digit_exponent(u, 2)
+    };
     (fixed(x, e), fixed(u, e), e)
 }
 

@@ -37,20 +37,27 @@ pub(crate) fn predict(
     estimate: &dyn Fn(&str) -> Option<f64>,
 ) -> Result<f64, String> {
     let spec = twin.spec();
+    let given = |n: &str| n == "power" || estimate(n).is_some();
     let args = spec
         .inputs
         .iter()
         .map(|c| {
             if c.name == "power" {
                 Ok(power)
+            } else if let Some(v) = estimate(c.name).or(c.default) {
+                Ok(v)
+            } else if spec.excused(c.name, &given) {
+                Ok(f64::NAN)
             } else {
-                estimate(c.name)
-                    .or(c.default)
-                    .ok_or_else(|| format!("the forecast needs the input `{}`", c.name))
+                Err(format!("the forecast needs the input `{}`", c.name))
             }
         })
         .collect::<Result<Vec<f64>, String>>()?;
-    let out = twin.evaluate_point(context, &args);
+    let context = ChainContext {
+        given: spec.given_mask(&given),
+        ..*context
+    };
+    let out = twin.evaluate_point(&context, &args);
     let i = spec
         .measurands
         .iter()
@@ -140,6 +147,7 @@ impl Loader<'_, '_> {
         };
         let context = ChainContext {
             procedure: self.procedure()?,
+            given: 0,
         };
         let predicted = predict(how.observed, twin, &context, power, &estimate)
             .map_err(|m| t.error(m, EXAMPLE))?;

@@ -379,6 +379,12 @@ pub(crate) fn check_domain(
             "an angle of incidence strictly between -90 deg and 90 deg",
             "dist = \"normal\", mean = \"10 deg\", sd = \"0.2 deg\"",
         ),
+        Domain::RefractiveIndex => (
+            1.0,
+            f64::INFINITY,
+            "a refractive index of 1 or more (1 is vacuum)",
+            "value = 1.00027   # air at 1064 nm",
+        ),
         Domain::QualityFactor => (
             0.5,
             f64::INFINITY,

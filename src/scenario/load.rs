@@ -9,7 +9,7 @@ use super::study::{
 use super::table::{Entry, Table};
 use super::{Correlations, correlation};
 use crate::error::InputError;
-use crate::model::formula::{Func, RESERVED};
+use crate::model::formula::{Func, constant, reserved};
 use crate::model::{ChainKind, InputValues};
 use crate::units::{Dimension, parse_quantity};
 use std::ops::Range;
@@ -364,7 +364,18 @@ impl<'a, 'i> Loader<'a, 'i> {
                 example,
             ));
         }
-        if RESERVED.contains(&name) || Func::from_name(name).is_some() {
+        if let Some(c) = constant(name) {
+            return Err(self.src.error(
+                &entry.key_span,
+                &entry.path,
+                format!(
+                    "`{name}` is reserved: in formulas it is the {}; choose another {what} name",
+                    c.what
+                ),
+                example,
+            ));
+        }
+        if reserved(name) || Func::from_name(name).is_some() {
             return Err(self.src.error(
                 &entry.key_span,
                 &entry.path,
@@ -393,16 +404,20 @@ impl<'a, 'i> Loader<'a, 'i> {
                     .and_then(|c| c.default),
             }
         };
-        let upper = |n: &str| -> Option<f64> {
+        let end = |n: &str, p: f64| -> Option<f64> {
             find(n).map(|q| match &q.law {
                 Law::Constant(v) => *v,
-                Law::Distributed(d) => d.quantile(1.0 - OUTSIDE_TOLERANCE),
+                Law::Distributed(d) => d.quantile(p),
             })
         };
+        let upper = |n: &str| end(n, 1.0 - OUTSIDE_TOLERANCE);
+        let lower = |n: &str| end(n, OUTSIDE_TOLERANCE);
         let found = kind
             .cross_checks(&InputValues {
                 estimate: &estimate,
                 upper: &upper,
+                lower: &lower,
+                procedure: self.procedure()?.is_some(),
             })
             .map_err(|issue| {
                 let span = issue
@@ -488,6 +503,8 @@ fn settling_warning(
     let instrument = chain.instrument(&InputValues {
         estimate: &estimate,
         upper: &no_upper,
+        lower: &no_upper,
+        procedure: true,
     });
     let s = crate::physics::response::settling_factor(p, &instrument.modes());
     (s < 0.5).then(|| {

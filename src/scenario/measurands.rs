@@ -8,8 +8,9 @@ use super::study::Measurand;
 use super::table::Entry;
 use crate::error::InputError;
 use crate::model::formula::{self, topological_order};
+use crate::model::formula::{Dim, infer_dimension, same_dimension};
 use crate::model::{ArgSource, BoundChain, ChainContext, ChainKind, FormulaStep, Model};
-use crate::units::{DisplayUnit, parse_unit};
+use crate::units::{Dimension, DisplayUnit, parse_unit};
 use std::ops::Range;
 
 /// A formula measurand read from its table, waiting to be compiled.
@@ -22,6 +23,8 @@ struct Pending<'a, 'i> {
     text: String,
     /// Where the formula's value is in the file.
     value_span: Range<usize>,
+    /// The dimension of its `unit`, with the entry (to point at), if it has one.
+    unit: Option<(Dimension, Entry<'a, 'i>)>,
 }
 
 impl<'a, 'i> Loader<'a, 'i> {
@@ -50,7 +53,13 @@ impl<'a, 'i> Loader<'a, 'i> {
                 "[model]\nchain = \"torsion-power\"   or   [measurands.y]\nformula = \"x1 + x2\"",
             ));
         }
-        let steps = self.compile_formulas(&pending, inputs, &measurands, &mut used)?;
+        let (steps, dimensions) =
+            self.compile_formulas(&pending, inputs, &measurands, &mut used)?;
+        for (m, d) in measurands.iter_mut().zip(dimensions) {
+            if m.dimension.is_none() {
+                m.dimension = d;
+            }
+        }
         self.check_all_used(chain.as_ref().map(|c| c.0), inputs, &used)?;
         Ok((
             measurands.clone(),
@@ -75,6 +84,18 @@ impl<'a, 'i> Loader<'a, 'i> {
     ) -> Result<BoundChain, InputError> {
         let n_in = inputs.len();
         let spec = kind.spec();
+        let given = |n: &str| inputs.iter().any(|q| q.name == n);
+        spec.check_alternatives(&given).map_err(|issue| {
+            let q = issue
+                .inputs
+                .iter()
+                .find_map(|n| inputs.iter().find(|q| q.name == *n));
+            let (at, key) = match q {
+                Some(q) => (q.span.clone(), format!("inputs.{}", q.name)),
+                None => (span.clone(), "model.chain".to_string()),
+            };
+            self.src.error(&at, &key, issue.message, issue.example)
+        })?;
         let mut args = Vec::new();
         let mut missing = Vec::new();
         for ci in spec.inputs {
@@ -85,6 +106,8 @@ impl<'a, 'i> Loader<'a, 'i> {
                 }
                 None => match ci.default {
                     Some(v) => args.push(ArgSource::Fixed(v)),
+                    // Replaced by inputs the scenario gives: the chain does not read it.
+                    None if spec.excused(ci.name, &given) => args.push(ArgSource::Fixed(f64::NAN)),
                     None => {
                         missing.push(ci);
                         args.push(ArgSource::Fixed(f64::NAN));
@@ -131,6 +154,7 @@ impl<'a, 'i> Loader<'a, 'i> {
         let bound = BoundChain {
             context: ChainContext {
                 procedure: self.procedure()?,
+                given: spec.given_mask(&given),
             },
             kind,
             args,
@@ -209,6 +233,7 @@ impl<'a, 'i> Loader<'a, 'i> {
                             value_span: f.span(),
                             entry: f,
                             text,
+                            unit: None,
                         });
                         index
                     }
@@ -238,24 +263,31 @@ impl<'a, 'i> Loader<'a, 'i> {
                         symbol: unit.text.clone(),
                         factor: unit.factor,
                     });
+                    if let Some(p) = pending.iter_mut().find(|p| p.index == index) {
+                        p.unit = Some((unit.dimension, u));
+                    }
                 }
             }
         }
         Ok(pending)
     }
 
-    /// Parse and compile every pending formula, and order them so each follows what it uses.
+    /// Parse and compile every pending formula, and order them so each follows what it uses;
+    /// with the dimension of every measurand where it can be told (the chain's, a formula's
+    /// from its names, or its `unit`), refusing a `unit` of another dimension than its formula.
+    #[allow(clippy::type_complexity)]
     fn compile_formulas(
         &self,
         pending: &[Pending<'a, 'i>],
         inputs: &[InputQuantity],
         measurands: &[Measurand],
         used: &mut [bool],
-    ) -> Result<Vec<FormulaStep>, InputError> {
+    ) -> Result<(Vec<FormulaStep>, Vec<Option<Dimension>>), InputError> {
         let n_in = inputs.len();
         let names_in: Vec<&str> = inputs.iter().map(|q| q.name.as_str()).collect();
         let names_m: Vec<String> = measurands.iter().map(|m| m.name.clone()).collect();
         let mut compiled: Vec<(usize, formula::Program, Vec<formula::Reference>)> = Vec::new();
+        let mut parsed_all = Vec::new();
         for p in pending {
             let own = &measurands[p.index].name;
             let resolve = |name: &str| -> Result<usize, String> {
@@ -273,7 +305,7 @@ impl<'a, 'i> Loader<'a, 'i> {
                     .copied()
                     .chain(names_m.iter().map(String::as_str));
                 Err(format!(
-                    "unknown name `{name}`{}: a formula may use input quantities, measurands, `pi` and functions",
+                    "unknown name `{name}`{}: a formula may use input quantities, measurands, `pi`, the constants c, h, k_B, g_n, epsilon_0, mu_0 and functions",
                     suggestion(name, all)
                 ))
             };
@@ -287,6 +319,7 @@ impl<'a, 'i> Loader<'a, 'i> {
                 }
             }
             compiled.push((p.index, program, refs));
+            parsed_all.push(parsed);
         }
 
         // Order formula steps so each follows what it uses; refuse cycles.
@@ -321,13 +354,57 @@ impl<'a, 'i> Loader<'a, 'i> {
             let p = &pending[cycle.at];
             self.formula_error(p.entry.clone(), &p.value_span, &p.text, e)
         })?;
-        Ok(order
+        // Dimensions, each formula after what it uses.
+        let mut dims: Vec<Dim> = measurands
+            .iter()
+            .map(|m| m.dimension.map_or(Dim::Unknown, Dim::Of))
+            .collect();
+        for &k in &order {
+            let p = &pending[k];
+            let of = |name: &str| -> Dim {
+                if let Some(q) = inputs.iter().find(|q| q.name == name) {
+                    return q.dimension.map_or(Dim::Unknown, Dim::Of);
+                }
+                names_m
+                    .iter()
+                    .position(|n| n == name)
+                    .map_or(Dim::Unknown, |m| dims[m])
+            };
+            let found = infer_dimension(&parsed_all[k], &of)
+                .map_err(|e| self.formula_error(p.entry.clone(), &p.value_span, &p.text, e))?;
+            dims[p.index] = match (found, &p.unit) {
+                (Dim::Of(d), Some((u, entry))) if !same_dimension(d, *u) => {
+                    return Err(entry.error(
+                        format!(
+                            "`{}` is {} by its formula {:?}, not {}: its unit must be of that dimension",
+                            measurands[p.index].name,
+                            d.kind(),
+                            p.text,
+                            u.kind()
+                        ),
+                        format!("unit = \"{}\"", d.si_symbol()),
+                    ));
+                }
+                (Dim::Of(d), _) => Dim::Of(d),
+                (_, Some((u, _))) => Dim::Of(*u),
+                (other, None) => other,
+            };
+        }
+        let steps = order
             .into_iter()
             .map(|k| FormulaStep {
                 column: n_in + compiled[k].0,
                 program: compiled[k].1.clone(),
             })
-            .collect())
+            .collect();
+        let dimensions = dims
+            .into_iter()
+            .map(|d| match d {
+                Dim::Of(x) => Some(x),
+                _ => None,
+            })
+            .collect();
+        Ok((steps, dimensions))
     }
 
     /// Refuse an input that neither the chain nor any formula uses.

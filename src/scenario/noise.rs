@@ -328,6 +328,8 @@ pub(crate) fn noise_floor(
             &InputValues {
                 estimate: at.estimate,
                 upper: &no_upper,
+                lower: &no_upper,
+                procedure: at.procedure.is_some(),
             },
         )
         .map_err(|issue| (issue.message, issue.example))?;

@@ -166,14 +166,17 @@ impl Loader<'_, '_> {
     /// frequency-independent loss the real part of the spring constant depends on frequency;
     /// the size 1/(pi Q) from memory). Unless the scenario gives `anelastic_correction` itself,
     /// it enters as the input quantity `anelastic_correction` ~ R(delta / 2, 3 delta / 2): the
-    /// correction with half of it as a rectangular uncertainty.
+    /// correction with half of it as a rectangular uncertainty. Not when the torsion constant is
+    /// given directly (calibrated statically).
     pub(super) fn anelastic_input(
         &self,
         chain: Option<ChainKind>,
         inputs: &[InputQuantity],
     ) -> Result<Option<InputQuantity>, InputError> {
         let takes = chain.is_some_and(|c| c.spec().input_index("anelastic_correction").is_some());
-        if !takes || inputs.iter().any(|q| q.name == "anelastic_correction") {
+        // A torsion constant calibrated statically needs no correction from the dynamic one.
+        let given = |n: &str| inputs.iter().any(|q| q.name == n);
+        if !takes || given("anelastic_correction") || given("torsion_constant") {
             return Ok(None);
         }
         let viscous = self

@@ -132,6 +132,7 @@ impl Study {
         }
         let context = crate::model::ChainContext {
             procedure: self.procedure,
+            given: 0,
         };
         let spec = kind.spec();
         if let (Some(f), Some(how)) = (&self.forecast, kind.forecast()) {

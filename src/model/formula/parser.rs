@@ -72,6 +72,8 @@ impl Func {
 pub enum Expr {
     /// A number literal or `pi`.
     Number(f64),
+    /// A physical constant, with its character position and length.
+    Constant(&'static super::FormulaConstant, usize, usize),
     /// A name, with its character position and length.
     Name(String, usize, usize),
     /// Unary minus.
@@ -312,6 +314,9 @@ impl Parser {
                 }
                 if name == "pi" {
                     return Ok(Expr::Number(std::f64::consts::PI));
+                }
+                if let Some(c) = super::constant(&name) {
+                    return Ok(Expr::Constant(c, pos, len));
                 }
                 if Func::from_name(&name).is_some() {
                     return Err(FormulaError::at(

@@ -124,6 +124,7 @@ fn binary(op: char, a: f64, b: f64) -> f64 {
 fn fold(e: &Expr) -> Expr {
     match e {
         Expr::Number(_) | Expr::Name(..) => e.clone(),
+        Expr::Constant(c, ..) => Expr::Number(c.value),
         Expr::Neg(x) => match fold(x) {
             Expr::Number(v) => Expr::Number(-v),
             other => Expr::Neg(Box::new(other)),
@@ -171,6 +172,7 @@ fn emit(
 ) -> Result<(), FormulaError> {
     match e {
         Expr::Number(v) => ops.push(Op::Const(*v)),
+        Expr::Constant(c, ..) => ops.push(Op::Const(c.value)),
         Expr::Name(name, pos, len) => {
             let column = resolve(name).map_err(|m| FormulaError::at(*pos, *len, m))?;
             refs.push(Reference {
