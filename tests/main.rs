@@ -6,6 +6,7 @@ mod common;
 
 mod architecture;
 mod bad_inputs;
+mod budgets;
 mod chains;
 mod cli;
 mod coverage;

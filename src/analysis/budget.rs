@@ -2,6 +2,7 @@
 //! asks for the components u_i(y) = |c_i| u(x_i) to be reported).
 
 use super::lpu::MeasurandLpu;
+use crate::model::Subsystem;
 use crate::scenario::Study;
 
 /// One line of a budget (SI).
@@ -22,6 +23,50 @@ pub(crate) struct BudgetRow {
     pub(crate) share: f64,
     /// Degrees of freedom of u(x_i), when finite.
     pub(crate) dof: Option<f64>,
+    /// The part of the apparatus the input belongs to.
+    pub(crate) subsystem: Subsystem,
+}
+
+/// One subsystem's part of a budget: the sum of its inputs' shares of the first-order variance
+/// (the variance the measurand would keep if every other subsystem were perfect, when its inputs
+/// are uncorrelated with the others').
+#[derive(Clone, Debug, PartialEq)]
+pub(crate) struct SubsystemShare {
+    /// The subsystem.
+    pub(crate) subsystem: Subsystem,
+    /// Sum of its rows' shares.
+    pub(crate) share: f64,
+    /// Its contribution sqrt(sum (c_i u(x_i))^2), in the measurand's SI unit.
+    pub(crate) contribution: f64,
+    /// How many budget rows it holds.
+    pub(crate) rows: usize,
+}
+
+/// The budget summed by subsystem, largest share first (ties in [`Subsystem::ALL`] order); only
+/// subsystems with a row appear.
+pub(crate) fn by_subsystem(rows: &[BudgetRow]) -> Vec<SubsystemShare> {
+    let mut out: Vec<SubsystemShare> = Subsystem::ALL
+        .into_iter()
+        .filter_map(|s| {
+            let mine: Vec<&BudgetRow> = rows.iter().filter(|r| r.subsystem == s).collect();
+            (!mine.is_empty()).then(|| SubsystemShare {
+                subsystem: s,
+                share: mine.iter().map(|r| r.share).sum(),
+                contribution: mine
+                    .iter()
+                    .map(|r| r.contribution.powi(2))
+                    .sum::<f64>()
+                    .sqrt(),
+                rows: mine.len(),
+            })
+        })
+        .collect();
+    out.sort_by(|a, b| {
+        b.share
+            .total_cmp(&a.share)
+            .then(a.subsystem.cmp(&b.subsystem))
+    });
+    out
 }
 
 /// The budget of one measurand: every input with an uncertainty, largest contribution first
@@ -49,6 +94,7 @@ pub(crate) fn budget(study: &Study, lpu: &MeasurandLpu) -> Vec<BudgetRow> {
                     0.0
                 },
                 dof: q.dof.filter(|d| d.is_finite()),
+                subsystem: q.subsystem,
             }
         })
         .collect();

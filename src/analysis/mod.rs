@@ -52,6 +52,10 @@ pub(crate) struct MeasurandFinding {
     pub(crate) validation: Option<ValidationFinding>,
     /// The uncertainty budget.
     pub(crate) budget: Vec<BudgetRow>,
+    /// The budget summed by subsystem, largest share first.
+    pub(crate) by_subsystem: Vec<budget::SubsystemShare>,
+    /// Words for it from the scenario (`label`), when given.
+    pub(crate) label: Option<String>,
     /// The shape of its distribution, for figures (when the values were in memory).
     pub(crate) shape: Option<Shape>,
 }
@@ -77,6 +81,10 @@ pub(crate) struct InputFinding {
     pub(crate) shown_unit: DisplayUnit,
     /// Its sampled histogram against its stated density (when its column was kept).
     pub(crate) shape: Option<Shape>,
+    /// The part of the apparatus it belongs to.
+    pub(crate) subsystem: crate::model::Subsystem,
+    /// Words for it from the scenario (`label`), when given.
+    pub(crate) label: Option<String>,
 }
 
 /// A correlation coefficient asked for between two inputs, and what the trials achieved.
@@ -219,6 +227,8 @@ fn input_finding(q: &InputQuantity) -> InputFinding {
         dimension: q.dimension,
         shown_unit: q.shown_unit.clone(),
         shape: None,
+        subsystem: q.subsystem,
+        label: q.label.clone(),
     }
 }
 
@@ -310,7 +320,9 @@ pub(crate) fn findings_from(
                 monte_carlo: mc,
                 lpu: lpu_m,
                 validation,
+                by_subsystem: budget::by_subsystem(&budget),
                 budget,
+                label: m.label.clone(),
                 shape: mcr.shapes.get(i).cloned().flatten(),
             }
         })

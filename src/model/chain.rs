@@ -47,17 +47,20 @@ pub enum Subsystem {
     Environment,
     /// The noise left after averaging.
     Noise,
+    /// An input of a formula scenario that names no subsystem.
+    Other,
 }
 
 impl Subsystem {
     /// Every subsystem, in the order reports list them.
-    pub const ALL: [Subsystem; 6] = [
+    pub const ALL: [Subsystem; 7] = [
         Subsystem::Beam,
         Subsystem::Mirror,
         Subsystem::Balance,
         Subsystem::Readout,
         Subsystem::Environment,
         Subsystem::Noise,
+        Subsystem::Other,
     ];
 
     /// Its name in scenarios and reports.
@@ -69,7 +72,13 @@ impl Subsystem {
             Subsystem::Readout => "readout",
             Subsystem::Environment => "environment",
             Subsystem::Noise => "noise",
+            Subsystem::Other => "other",
         }
+    }
+
+    /// The subsystem of a name (as a scenario writes it in `subsystem = "..."`).
+    pub fn from_name(name: &str) -> Option<Subsystem> {
+        Subsystem::ALL.into_iter().find(|s| s.name() == name)
     }
 }
 

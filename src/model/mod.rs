@@ -11,7 +11,7 @@ pub mod formula;
 pub(crate) mod optics;
 
 pub(crate) use chain::{
-    Chain, ChainContext, ChainInput, ChainIssue, ChainSpec, Domain, InputValues,
+    Chain, ChainContext, ChainInput, ChainIssue, ChainSpec, Domain, InputValues, Subsystem,
 };
 
 use crate::physics::noise::NoiseSettings;

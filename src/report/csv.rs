@@ -110,6 +110,7 @@ pub(crate) fn budget(f: &Findings) -> Vec<u8> {
                 g(b.contribution / k),
                 g(b.share),
                 opt(b.dof),
+                b.subsystem.name().to_string(),
             ]);
         }
     }
@@ -126,6 +127,7 @@ pub(crate) fn budget(f: &Findings) -> Vec<u8> {
             "contribution",
             "share",
             "degrees_of_freedom",
+            "subsystem",
         ],
         rows,
     )

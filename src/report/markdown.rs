@@ -30,15 +30,39 @@ fn table(headers: &[&str], rows: &[Vec<String>]) -> String {
     out
 }
 
+/// How prose names an input: its label, or its name.
+pub(crate) fn input_words(q: &crate::analysis::InputFinding) -> String {
+    q.label.clone().unwrap_or_else(|| q.name.clone())
+}
+
+/// How prose names a measurand: its label, or its name.
+pub(crate) fn measurand_words(m: &MeasurandFinding) -> String {
+    m.label.clone().unwrap_or_else(|| m.name.clone())
+}
+
+/// "By part of the apparatus: balance 62 %, environment 30 %, beam 8 %."
+pub(crate) fn subsystem_sentence(m: &MeasurandFinding) -> String {
+    let parts: Vec<String> = m
+        .by_subsystem
+        .iter()
+        .filter(|p| p.share >= 0.005)
+        .map(|p| format!("{} {:.0} %", p.subsystem.name(), 100.0 * p.share))
+        .collect();
+    if parts.is_empty() {
+        String::new()
+    } else {
+        format!(" By part of the apparatus: {}.", parts.join(", "))
+    }
+}
+
 fn shares_sentence(f: &Findings, m: &MeasurandFinding) -> String {
     let parts: Vec<String> = m
         .budget
         .iter()
         .take(3)
         .filter(|b| b.share >= 0.005)
-        .map(|b| format!("{:.0} % from {}", 100.0 * b.share, f.inputs[b.input].name))
+        .map(|b| format!("{:.0} % from {}", 100.0 * b.share, input_words(&f.inputs[b.input])))
         .collect();
-    let _ = f;
     match parts.as_slice() {
         [] => String::new(),
         [one] => format!(
@@ -74,14 +98,14 @@ pub(crate) fn headline(f: &Findings, m: &MeasurandFinding) -> String {
     let k = s
         .coverage_factor
         .map_or("-".to_string(), |k| format!("{k:.2}"));
-    let what = if m.name == "power" {
-        format!("a beam of about {y} {} is measured", unit.symbol)
-    } else {
-        format!(
+    let what = match (&m.label, m.name.as_str()) {
+        (Some(l), _) => format!("the {l} is estimated as {y} {}", unit.symbol),
+        (None, "power") => format!("a beam of about {y} {} is measured", unit.symbol),
+        (None, name) => format!(
             "the {} is estimated as {y} {}",
-            m.name.replace('_', " "),
+            name.replace('_', " "),
             unit.symbol
-        )
+        ),
     };
     let rel = if rel_u == "-" {
         format!(
@@ -97,7 +121,7 @@ pub(crate) fn headline(f: &Findings, m: &MeasurandFinding) -> String {
         f.title,
         percent(f.coverage),
         unit.symbol,
-        shares_sentence(f, m)
+        shares_sentence(f, m) + &subsystem_sentence(m)
     )
 }
 
@@ -185,7 +209,8 @@ impl MarkdownReport {
             let unit = measurand_unit(m);
             out.push_str(&format!(
                 "\n## Uncertainty budget of {} ({})\n\n",
-                m.name, unit.symbol
+                measurand_words(m),
+                unit.symbol
             ));
             if let (Some(l), Some(v)) = (&m.lpu, &m.validation) {
                 out.push_str(&format!(
@@ -200,10 +225,21 @@ impl MarkdownReport {
                     unit.symbol
                 ));
             }
-            let rows: Vec<Vec<String>> = m
-                .budget
-                .iter()
-                .map(|b| {
+            let mut rows: Vec<Vec<String>> = Vec::new();
+            for part in &m.by_subsystem {
+                rows.push(vec![
+                    format!("**{}** ({})", part.subsystem.name(), part.rows),
+                    String::new(),
+                    String::new(),
+                    String::new(),
+                    format!(
+                        "**{} {}**",
+                        significant(part.contribution / unit.factor, 2),
+                        unit.symbol
+                    ),
+                    format!("**{:.1} %**", 100.0 * part.share),
+                ]);
+                for b in m.budget.iter().filter(|b| b.subsystem == part.subsystem) {
                     let q = &f.inputs[b.input];
                     let (est, u, shown) = super::format::input_pair(
                         b.estimate,
@@ -211,28 +247,37 @@ impl MarkdownReport {
                         &q.shown_unit,
                         q.dimension,
                     );
-                    vec![
-                        q.name.clone(),
+                    let no_effect = b.share < 1e-6;
+                    rows.push(vec![
+                        format!("&nbsp;&nbsp;{}", input_words(q)),
                         q.distribution.clone(),
                         format!("{est} {shown}").trim().to_string(),
                         format!("{u} {shown}").trim().to_string(),
-                        format!(
-                            "{} {}",
-                            significant(b.contribution / unit.factor, 2),
-                            unit.symbol
-                        ),
-                        format!("{:.1} %", 100.0 * b.share),
-                    ]
-                })
-                .collect();
+                        if no_effect {
+                            "nil (1st order)".into()
+                        } else {
+                            format!(
+                                "{} {}",
+                                significant(b.contribution / unit.factor, 2),
+                                unit.symbol
+                            )
+                        },
+                        if no_effect {
+                            "< 1e-4 %".into()
+                        } else {
+                            format!("{:.1} %", 100.0 * b.share)
+                        },
+                    ]);
+                }
+            }
             out.push_str(&table(
                 &[
-                    "input",
+                    "part of the apparatus / input",
                     "distribution",
                     "estimate",
                     "u(x)",
                     "contribution",
-                    "share",
+                    "share of u²",
                 ],
                 &rows,
             ));

@@ -263,7 +263,7 @@ fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
     let unit = measurand_unit(m);
     let k = unit.factor;
     out.push_str(&format!(
-        "\nuncertainty budget of {} ({}), largest contribution first\n",
+        "\nuncertainty budget of {} ({}), by part of the apparatus, largest share first\n",
         m.name,
         if unit.symbol.is_empty() {
             "no unit"
@@ -273,7 +273,7 @@ fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
     ));
     let mut t = TextTable::new(
         &[
-            "input",
+            "part / input",
             "distribution",
             "estimate",
             "u(x)",
@@ -281,11 +281,63 @@ fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
             "sensitivity c",
             "|c| u(x)",
             "share",
+            "share of u^2 (# = 5 %)",
             "dof",
         ],
-        &[false, false, true, true, false, true, true, true, true],
+        &[false, false, true, true, false, true, true, true, false, true],
     );
-    for r in &m.budget {
+    for part in &m.by_subsystem {
+        t.row(vec![
+            format!("{} ({})", part.subsystem.name(), inputs_count(part.rows)),
+            String::new(),
+            String::new(),
+            String::new(),
+            String::new(),
+            String::new(),
+            significant(part.contribution / k, 2),
+            format!("{:.1} %", 100.0 * part.share),
+            share_bar(part.share),
+            String::new(),
+        ]);
+        for r in m.budget.iter().filter(|r| r.subsystem == part.subsystem) {
+            budget_row(&mut t, f, r, &unit);
+        }
+    }
+    out.push_str(&t.render());
+    if m.budget.iter().any(|r| r.share < NO_EFFECT) {
+        out.push_str(&format!(
+            "  nil (1st order): a share of u^2 below {:.0e}, no effect on the first-order uncertainty; an input of a curved model may still act through the higher-order terms, which the Monte Carlo result includes\n",
+            NO_EFFECT
+        ));
+    }
+}
+
+/// Below this share of u^2 an input's effect is nil for the purpose of a budget.
+const NO_EFFECT: f64 = 1e-6;
+
+/// "1 input", "3 inputs".
+fn inputs_count(n: usize) -> String {
+    if n == 1 {
+        "1 input".into()
+    } else {
+        format!("{n} inputs")
+    }
+}
+
+/// A share of u^2 drawn as '#' per 5 % (a '+' for a part of one), in ASCII for any terminal.
+fn share_bar(share: f64) -> String {
+    let steps = (share.clamp(0.0, 1.0) * 20.0).round() as usize;
+    if steps == 0 && share >= 0.005 {
+        "+".into()
+    } else {
+        "#".repeat(steps)
+    }
+}
+
+/// One input's row of the budget, indented under its subsystem.
+fn budget_row(t: &mut TextTable, f: &Findings, r: &crate::analysis::budget::BudgetRow, unit: &crate::units::DisplayUnit) {
+    let k = unit.factor;
+    {
         let q = &f.inputs[r.input];
         let (est, u, shown) = input_pair(
             r.estimate,
@@ -307,19 +359,32 @@ fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
             (a, b) if b.contains(' ') || b.contains('/') => format!("{a}/({b})"),
             (a, b) => format!("{a}/{b}"),
         };
+        let no_effect = r.share < NO_EFFECT;
         t.row(vec![
-            q.name.clone(),
+            format!("  {}", q.name),
             q.distribution.clone(),
             est,
             u,
             shown,
-            format!("{} {c_unit}", significant(c, 4)),
-            significant(r.contribution / k, 2),
-            format!("{:.1} %", 100.0 * r.share),
+            if no_effect {
+                "nil (1st order)".into()
+            } else {
+                format!("{} {c_unit}", significant(c, 4))
+            },
+            if no_effect {
+                "-".into()
+            } else {
+                significant(r.contribution / k, 2)
+            },
+            if no_effect {
+                "< 1e-4 %".into()
+            } else {
+                format!("{:.1} %", 100.0 * r.share)
+            },
+            share_bar(r.share),
             r.dof.map_or(String::new(), |d| format!("{d}")),
         ]);
     }
-    out.push_str(&t.render());
 }
 
 /// Correlation of several measurands (JCGM 102), from the trials and from the LPU.

@@ -151,12 +151,9 @@ impl Loader<'_, '_> {
         };
         let predicted = predict(how.observed, twin, &context, power, &estimate)
             .map_err(|m| t.error(m, EXAMPLE))?;
-        let dimension = kind
-            .spec()
-            .inputs
-            .iter()
-            .find(|c| c.name == how.observed)
-            .map_or(Dimension::NONE, |c| c.dimension);
+        let spec_input = kind.spec().inputs.iter().find(|c| c.name == how.observed);
+        let dimension = spec_input.map_or(Dimension::NONE, |c| c.dimension);
+        let subsystem = spec_input.map_or(crate::model::Subsystem::Readout, |c| c.subsystem);
         let observed = InputQuantity {
             name: how.observed.to_string(),
             law: Law::Constant(predicted),
@@ -169,6 +166,8 @@ impl Loader<'_, '_> {
             )),
             best: None,
             span: t.span.clone(),
+            subsystem,
+            label: None,
         };
         Ok(Some((
             Forecast {

@@ -5,7 +5,7 @@ use super::source::suggestion;
 use super::table::{Entry, Table, number_value, type_name};
 use crate::dist::{self, Distribution, ParamKind, ParamValues, ParameterError};
 use crate::error::InputError;
-use crate::model::{ChainInput, Domain};
+use crate::model::{ChainInput, Domain, Subsystem};
 use crate::units::{Dimension, DisplayUnit, parse_quantity};
 use std::ops::Range;
 use toml::de::DeValue;
@@ -40,6 +40,10 @@ pub struct InputQuantity {
     pub(crate) best: Option<f64>,
     /// Where its table is in the file.
     pub(crate) span: Range<usize>,
+    /// The part of the apparatus it belongs to (the chain's, or `subsystem = "..."`).
+    pub(crate) subsystem: Subsystem,
+    /// Words for it in prose, tables and figures (`label = "..."`), when given.
+    pub(crate) label: Option<String>,
 }
 
 impl InputQuantity {
@@ -205,6 +209,23 @@ pub(crate) fn read_input(
         ),
         None => None,
     };
+    let label = read_label(table, "label = \"stray force from residual gas\"")?;
+    let subsystem = match table.get("subsystem") {
+        Some(e) => {
+            let example = "subsystem = \"balance\"";
+            let written = e.string(example)?;
+            Subsystem::from_name(written).ok_or_else(|| {
+                e.error(
+                    format!(
+                        "unknown subsystem {written:?}; known: {}",
+                        Subsystem::ALL.map(Subsystem::name).join(", ")
+                    ),
+                    example,
+                )
+            })?
+        }
+        None => chain_input.map_or(Subsystem::Other, |c| c.subsystem),
+    };
     let value = table.get("value");
     let dist = table.get("dist");
     let mut units = UnitTracker {
@@ -216,7 +237,10 @@ pub(crate) fn read_input(
 
     let (law, dof) = match (value, dist) {
         (Some(v), None) => {
-            table.check_keys(&["value", "note"], "value = \"50 mm\"")?;
+            table.check_keys(
+                &["value", "note", "label", "subsystem"],
+                "value = \"50 mm\"",
+            )?;
             let x = units.quantity(v.value, &v.path, src)?;
             (Law::Constant(x), None)
         }
@@ -248,7 +272,7 @@ pub(crate) fn read_input(
             };
             let (family, params, example) = (spec.name, spec.params, spec.example);
             units.example = example;
-            let mut allowed: Vec<&str> = vec!["dist", "note", "best"];
+            let mut allowed: Vec<&str> = vec!["dist", "note", "best", "label", "subsystem"];
             allowed.extend(params.iter().map(|p| p.0));
             if spec.type_b_dof {
                 allowed.push("dof");
@@ -306,6 +330,8 @@ pub(crate) fn read_input(
         note,
         best: None,
         span: table.span.clone(),
+        subsystem,
+        label,
     };
     let quantity = match table.get("best") {
         Some(e) => {
@@ -451,11 +477,12 @@ pub(crate) fn check_domain(
 pub(crate) fn input_schema() -> serde_json::Value {
     use serde_json::json;
     let quantity = json!({"$ref": "#/$defs/quantity"});
+    let subsystems = Subsystem::ALL.map(Subsystem::name);
     let mut variants = vec![json!({
         "type": "object",
         "description": "a constant",
         "required": ["value"],
-        "properties": {"value": quantity, "note": {"type": "string"}},
+        "properties": {"value": quantity, "note": {"type": "string"}, "label": {"type": "string"}, "subsystem": {"enum": subsystems}},
         "additionalProperties": false,
     })];
     for spec in dist::families() {
@@ -465,6 +492,8 @@ pub(crate) fn input_schema() -> serde_json::Value {
         let mut props = serde_json::Map::new();
         props.insert("dist".into(), json!({"enum": names}));
         props.insert("note".into(), json!({"type": "string"}));
+        props.insert("label".into(), json!({"type": "string"}));
+        props.insert("subsystem".into(), json!({ "enum": subsystems }));
         props.insert("best".into(), quantity.clone());
         let mut required = vec!["dist".to_string()];
         for (p, kind) in params.iter() {
@@ -492,4 +521,23 @@ pub(crate) fn input_schema() -> serde_json::Value {
         }));
     }
     json!({"oneOf": variants})
+}
+
+/// The `label` key of a table: words for an input or a measurand in prose, tables and figures
+/// (one line, at most 120 characters).
+pub(crate) fn read_label(
+    table: &Table<'_, '_>,
+    example: &str,
+) -> Result<Option<String>, InputError> {
+    let Some(e) = table.get("label") else {
+        return Ok(None);
+    };
+    let text = e.string(example)?.trim();
+    if text.is_empty() || text.chars().count() > 120 || text.chars().any(char::is_control) {
+        return Err(e.error(
+            "a label is one line of 1 to 120 characters, without control characters",
+            example,
+        ));
+    }
+    Ok(Some(text.to_string()))
 }

@@ -167,6 +167,7 @@ impl<'a, 'i> Loader<'a, 'i> {
                 unit: None,
                 formula: None,
                 description: m.description.to_string(),
+                label: None,
             });
         }
         Ok(bound)
@@ -187,7 +188,7 @@ impl<'a, 'i> Loader<'a, 'i> {
                 self.check_name(&entry, "measurand")?;
                 let mt = entry.table("[measurands.dm]\nformula = \"m1 - m2\"\nunit = \"mg\"")?;
                 mt.check_keys(
-                    &["formula", "unit", "note"],
+                    &["formula", "unit", "note", "label"],
                     "formula = \"m1 - m2\", unit = \"mg\"",
                 )?;
                 if inputs.iter().any(|q| q.name == entry.key) {
@@ -226,6 +227,7 @@ impl<'a, 'i> Loader<'a, 'i> {
                             unit: None,
                             formula: Some(text.clone()),
                             description: note.clone().unwrap_or_default(),
+                            label: None,
                         });
                         let index = measurands.len() - 1;
                         pending.push(Pending {
@@ -240,6 +242,11 @@ impl<'a, 'i> Loader<'a, 'i> {
                 };
                 if let Some(n) = note {
                     measurands[index].description = n;
+                }
+                if let Some(l) =
+                    super::inputs::read_label(&mt, "label = \"laser power at the first mirror\"")?
+                {
+                    measurands[index].label = Some(l);
                 }
                 if let Some(u) = mt.get("unit") {
                     let text = u.string("unit = \"mg\"")?;

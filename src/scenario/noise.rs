@@ -444,6 +444,8 @@ pub(crate) fn noise_input(
             None => "force noise left after averaging, from [noise]".into(),
         }),
         best: None,
+        subsystem: crate::model::Subsystem::Noise,
+        label: None,
         span,
     })
 }

@@ -157,6 +157,8 @@ impl Loader<'_, '_> {
             note: Some("the balance's first-order time constant, from [procedure]".into()),
             best: None,
             span: e.span(),
+            subsystem: crate::model::Subsystem::Balance,
+            label: None,
         }))
     }
 
@@ -208,6 +210,8 @@ impl Loader<'_, '_> {
             )),
             best: None,
             span: q.span.clone(),
+            subsystem: crate::model::Subsystem::Balance,
+            label: None,
         }))
     }
 }

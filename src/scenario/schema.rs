@@ -29,7 +29,7 @@ pub(crate) fn scenario_schema() -> Value {
             "type": "object",
             "additionalProperties": {
                 "type": "object",
-                "properties": {"formula": {"type": "string"}, "unit": {"type": "string"}, "note": {"type": "string"}},
+                "properties": {"formula": {"type": "string"}, "unit": {"type": "string"}, "note": {"type": "string"}, "label": {"type": "string"}},
                 "additionalProperties": false,
             },
         },

@@ -33,6 +33,8 @@ pub struct Measurand {
     pub(crate) formula: Option<String>,
     /// What it is.
     pub(crate) description: String,
+    /// Words for it in prose, tables and figures (`label = "..."`), when given.
+    pub(crate) label: Option<String>,
 }
 
 /// A validated scenario, ready to run.

@@ -77,6 +77,17 @@ struct MeasurandJson<'a> {
     budget: Vec<BudgetRowJson<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     sensitivity: Option<Vec<SensitivityRowJson<'a>>>,
+    budget_by_subsystem: Vec<SubsystemShareJson>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    label: Option<&'a str>,
+}
+
+#[derive(Serialize)]
+struct SubsystemShareJson {
+    subsystem: &'static str,
+    share: f64,
+    contribution: f64,
+    inputs: usize,
 }
 
 #[derive(Serialize)]
@@ -117,6 +128,9 @@ struct BudgetRowJson<'a> {
     contribution: f64,
     share: f64,
     degrees_of_freedom: Option<f64>,
+    subsystem: &'static str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    label: Option<&'a str>,
 }
 
 #[derive(Serialize)]
@@ -140,6 +154,9 @@ struct InputJson<'a> {
     standard_uncertainty: Option<f64>,
     distribution: &'a str,
     degrees_of_freedom: Option<f64>,
+    subsystem: &'static str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    label: Option<&'a str>,
 }
 
 #[derive(Serialize)]
@@ -247,6 +264,8 @@ fn measurand_json<'a>(f: &'a Findings, i: usize, m: &'a MeasurandFinding) -> Mea
                 contribution: r.contribution / k,
                 share: r.share,
                 degrees_of_freedom: r.dof,
+                subsystem: r.subsystem.name(),
+                label: q.label.as_deref(),
             }
         })
         .collect();
@@ -289,6 +308,17 @@ fn measurand_json<'a>(f: &'a Findings, i: usize, m: &'a MeasurandFinding) -> Mea
         validation,
         budget,
         sensitivity,
+        budget_by_subsystem: m
+            .by_subsystem
+            .iter()
+            .map(|b| SubsystemShareJson {
+                subsystem: b.subsystem.name(),
+                share: b.share,
+                contribution: b.contribution / k,
+                inputs: b.rows,
+            })
+            .collect(),
+        label: m.label.as_deref(),
     }
 }
 
@@ -319,6 +349,8 @@ pub(crate) fn run_json(f: &Findings) -> RunJson<'_> {
                 standard_uncertainty: q.standard_uncertainty,
                 distribution: &q.distribution,
                 degrees_of_freedom: q.dof,
+                subsystem: q.subsystem.name(),
+                label: q.label.as_deref(),
             })
             .collect(),
         generator: &f.generator,
