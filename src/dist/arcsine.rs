@@ -40,6 +40,13 @@ impl Family for Arcsine {
         let w = self.max - self.min;
         w * w / 8.0
     }
+    /// Symmetric; mu_4 = (3/8) a^4 against sigma^4 = a^4/4 (a the half-width): 3/2.
+    fn skewness(&self) -> f64 {
+        0.0
+    }
+    fn kurtosis(&self) -> f64 {
+        1.5
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.mean() + self.half() * (2.0 * PI * uniform01(rng)).sin()

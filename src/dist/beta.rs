@@ -76,6 +76,18 @@ impl Family for BetaScaled {
         let s = self.alpha + self.beta;
         self.width().powi(2) * self.alpha * self.beta / (s * s * (s + 1.0))
     }
+    /// 2 (b - a) sqrt(a + b + 1) / ((a + b + 2) sqrt(a b)) and
+    /// 3 + 6 [(a - b)^2 (a + b + 1) - a b (a + b + 2)] / (a b (a + b + 2)(a + b + 3)) (the scaling
+    /// to [min, max] keeps both).
+    fn skewness(&self) -> f64 {
+        let (a, b) = (self.alpha, self.beta);
+        2.0 * (b - a) * (a + b + 1.0).sqrt() / ((a + b + 2.0) * (a * b).sqrt())
+    }
+    fn kurtosis(&self) -> f64 {
+        let (a, b) = (self.alpha, self.beta);
+        3.0 + 6.0 * ((a - b).powi(2) * (a + b + 1.0) - a * b * (a + b + 2.0))
+            / (a * b * (a + b + 2.0) * (a + b + 3.0))
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.min + self.width() * self.sampler.sample(rng)

@@ -83,6 +83,18 @@ impl Family for CurvilinearTrapezoid {
         let w = self.max - self.min;
         w * w / 12.0 + self.spread * self.spread / 9.0
     }
+    /// Symmetric; X = c + H V with V rectangular on [-1, 1] and the half-width H rectangular on
+    /// [a - d, a + d]: E X^2 = E H^2 / 3, E X^4 = E H^4 / 5 with E H^2 = a^2 + d^2/3 and
+    /// E H^4 = a^4 + 2 a^2 d^2 + d^4/5.
+    fn skewness(&self) -> f64 {
+        0.0
+    }
+    fn kurtosis(&self) -> f64 {
+        let (a, d) = (0.5 * (self.max - self.min), self.spread);
+        let h2 = a * a + d * d / 3.0;
+        let h4 = a.powi(4) + 2.0 * a * a * d * d + d.powi(4) / 5.0;
+        (h4 / 5.0) / (h2 / 3.0).powi(2)
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let a_s = (self.min - self.spread) + 2.0 * self.spread * uniform01(rng);

@@ -35,6 +35,12 @@ impl Family for Exponential {
     fn variance(&self) -> f64 {
         self.mean * self.mean
     }
+    fn skewness(&self) -> f64 {
+        2.0
+    }
+    fn kurtosis(&self) -> f64 {
+        9.0
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let e: f64 = Exp1.sample(rng);

@@ -54,6 +54,13 @@ impl Family for GammaDist {
     fn variance(&self) -> f64 {
         self.shape * self.scale * self.scale
     }
+    /// 2/sqrt(k) and 3 + 6/k for shape k.
+    fn skewness(&self) -> f64 {
+        2.0 / self.shape.sqrt()
+    }
+    fn kurtosis(&self) -> f64 {
+        3.0 + 6.0 / self.shape
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.sampler.sample(rng)

@@ -45,6 +45,16 @@ impl Family for LogNormal {
     fn variance(&self) -> f64 {
         self.sd * self.sd
     }
+    /// With s^2 the variance of the logarithm: (e^(s^2) + 2) sqrt(e^(s^2) - 1) and
+    /// e^(4 s^2) + 2 e^(3 s^2) + 3 e^(2 s^2) - 3.
+    fn skewness(&self) -> f64 {
+        let e = (self.sigma * self.sigma).exp();
+        (e + 2.0) * (self.sigma * self.sigma).exp_m1().sqrt()
+    }
+    fn kurtosis(&self) -> f64 {
+        let s2 = self.sigma * self.sigma;
+        (4.0 * s2).exp() + 2.0 * (3.0 * s2).exp() + 3.0 * (2.0 * s2).exp() - 3.0
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let z: f64 = StandardNormal.sample(rng);

@@ -83,6 +83,10 @@ pub(crate) trait Family: Sized {
     fn mean(&self) -> f64;
     /// Variance of the distribution (may be infinite, e.g. t with 2 or fewer degrees of freedom).
     fn variance(&self) -> f64;
+    /// Skewness mu_3 / sigma^3 (NaN where the third moment does not exist).
+    fn skewness(&self) -> f64;
+    /// Kurtosis mu_4 / sigma^4 (3 for a normal; infinite where the fourth moment is).
+    fn kurtosis(&self) -> f64;
     /// One draw.
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64;
     /// The quantile (inverse distribution function) at probability `p` in (0, 1).
@@ -175,6 +179,16 @@ macro_rules! families {
             /// Variance.
             pub fn variance(&self) -> f64 {
                 match self { $(Distribution::$variant(d) => d.variance(),)* }
+            }
+
+            /// Skewness mu_3 / sigma^3.
+            pub fn skewness(&self) -> f64 {
+                match self { $(Distribution::$variant(d) => d.skewness(),)* }
+            }
+
+            /// Kurtosis mu_4 / sigma^4.
+            pub fn kurtosis(&self) -> f64 {
+                match self { $(Distribution::$variant(d) => d.kurtosis(),)* }
             }
 
             /// Quantile at probability `p` in (0, 1).

@@ -41,6 +41,12 @@ impl Family for Normal {
     fn variance(&self) -> f64 {
         self.sd * self.sd
     }
+    fn skewness(&self) -> f64 {
+        0.0
+    }
+    fn kurtosis(&self) -> f64 {
+        3.0
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let z: f64 = StandardNormal.sample(rng);

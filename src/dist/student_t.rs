@@ -215,6 +215,18 @@ impl Family for ScaledT {
             f64::INFINITY
         }
     }
+    /// Symmetric (0 for nu > 3, NaN otherwise); kurtosis 3 + 6/(nu - 4) for nu > 4, infinite
+    /// otherwise.
+    fn skewness(&self) -> f64 {
+        if self.dof > 3.0 { 0.0 } else { f64::NAN }
+    }
+    fn kurtosis(&self) -> f64 {
+        if self.dof > 4.0 {
+            3.0 + 6.0 / (self.dof - 4.0)
+        } else {
+            f64::INFINITY
+        }
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.mean + self.scale * self.sampler.sample(rng)

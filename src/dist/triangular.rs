@@ -36,6 +36,13 @@ impl Family for Triangular {
         let w = self.max - self.min;
         w * w / 24.0
     }
+    /// Symmetric; the sum of two rectangulars of equal width: 3 - (6/5)/2 = 12/5.
+    fn skewness(&self) -> f64 {
+        0.0
+    }
+    fn kurtosis(&self) -> f64 {
+        2.4
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let r1 = uniform01(rng);

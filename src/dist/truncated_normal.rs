@@ -113,6 +113,18 @@ impl Family for TruncatedNormal {
         let shift = (pa - pb) / self.mass;
         self.sd * self.sd * (1.0 + (a_term - b_term) / self.mass - shift * shift)
     }
+    /// From the raw moments of the standard normal truncated to [alpha, beta],
+    /// m_k = (k - 1) m_(k-2) - [beta^(k-1) phi(beta) - alpha^(k-1) phi(alpha)] / Z
+    /// (integration by parts; Johnson, Kotz and Balakrishnan, Continuous Univariate
+    /// Distributions, vol. 1, 13.10), made central.
+    fn skewness(&self) -> f64 {
+        let (_, m2, m3, _) = self.central_moments();
+        m3 / m2.powf(1.5)
+    }
+    fn kurtosis(&self) -> f64 {
+        let (_, m2, _, m4) = self.central_moments();
+        m4 / (m2 * m2)
+    }
     #[inline(always)]
     fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         if self.mass >= 0.5 {
@@ -167,3 +179,28 @@ impl Family for TruncatedNormal {
         Ok(TruncatedNormal::new(self.mean, self.sd / factor, self.min, self.max)?.into())
     }
 }
+
+impl TruncatedNormal {
+    /// Mean (standardised) and the second, third and fourth central moments of the standardised
+    /// truncated variable, from its raw moments (see [`Family::skewness`]).
+    fn central_moments(&self) -> (f64, f64, f64, f64) {
+        let z = self.mass;
+        let edge = |x: f64, k: i32| {
+            if x.is_finite() {
+                x.powi(k) * std_normal_pdf(x)
+            } else {
+                0.0
+            }
+        };
+        let step = |k: i32| edge(self.beta, k) - edge(self.alpha, k);
+        let m1 = -step(0) / z;
+        let m2 = 1.0 - step(1) / z;
+        let m3 = 2.0 * m1 - step(2) / z;
+        let m4 = 3.0 * m2 - step(3) / z;
+        let c2 = m2 - m1 * m1;
+        let c3 = m3 - 3.0 * m1 * m2 + 2.0 * m1.powi(3);
+        let c4 = m4 - 4.0 * m1 * m3 + 6.0 * m1 * m1 * m2 - 3.0 * m1.powi(4);
+        (m1, c2, c3, c4)
+    }
+}
+

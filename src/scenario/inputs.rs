@@ -74,6 +74,17 @@ impl InputQuantity {
         }
     }
 
+    /// Skewness and kurtosis for the law of propagation's higher-order terms: the
+    /// distribution's own, except for t and readings inputs, whose u is the standard uncertainty
+    /// of a mean with degrees of freedom (JCGM 100 4.2.3), taken as normal (0, 3) as JCGM 100
+    /// does; (0, 3) for a constant (it has no terms).
+    pub(crate) fn shape(&self) -> (f64, f64) {
+        match &self.law {
+            Law::Constant(_) | Law::Distributed(Distribution::T(_)) => (0.0, 3.0),
+            Law::Distributed(d) => (d.skewness(), d.kurtosis()),
+        }
+    }
+
     /// The distribution family name, or "constant".
     pub fn family(&self) -> &'static str {
         match &self.law {
