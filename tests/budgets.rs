@@ -163,3 +163,52 @@ fn text_budget_groups_rows_under_subtotals() {
         .unwrap();
     assert!(beam.contains("nil (1st order)"), "{beam}");
 }
+
+// The Markdown report links its figures relative to its own folder, so the links resolve from
+// there whatever the working folder was (checked by opening every linked file from the
+// report's folder).
+#[test]
+fn markdown_links_resolve_from_the_report_folder() {
+    let dir = scratch("md-links");
+    let scenario = crate::common::path("data/torsion-vacuum-20w.toml");
+    // A report into a folder that does not exist is refused before the run (exit 2).
+    let missing = radforce()
+        .current_dir(&*dir)
+        .args(["run", scenario.to_str().unwrap(), "--trials", "20000", "-q"])
+        .args(["--format", "markdown", "-o", "out/report/c.md"])
+        .output()
+        .unwrap();
+    assert_eq!(missing.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&missing.stderr).contains("does not exist"));
+    std::fs::create_dir_all(dir.join("out/report")).unwrap();
+    let out = radforce()
+        .current_dir(&*dir)
+        .args(["run", scenario.to_str().unwrap(), "--trials", "20000", "-q"])
+        .args([
+            "--format",
+            "markdown",
+            "-o",
+            "out/report/c.md",
+            "--plots",
+            "out/figs",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let report_dir = dir.join("out/report");
+    let text = std::fs::read_to_string(report_dir.join("c.md")).unwrap();
+    let links: Vec<&str> = text
+        .split("](")
+        .skip(1)
+        .map(|rest| rest.split(')').next().unwrap())
+        .collect();
+    assert!(links.len() >= 3, "figure links in {text}");
+    for link in links {
+        assert!(link.starts_with("../figs/"), "{link}");
+        assert!(report_dir.join(link).is_file(), "{link} does not resolve");
+    }
+}

@@ -245,7 +245,7 @@ fn samples_export() {
             "rho_R [kg m^-3]",
             "rho_a0 [kg m^-3]",
             "m_nom [kg]",
-            "dm [mg]"
+            "dm [kg]"
         ]
     );
     let rows: Vec<csv::StringRecord> = r.records().map(Result::unwrap).collect();
@@ -254,10 +254,7 @@ fn samples_export() {
     for row in &rows {
         let v: Vec<f64> = row.iter().map(|x| x.parse().unwrap()).collect();
         let dm = (v[0] + v[1]) * (1.0 + (v[2] - v[5]) * (1.0 / v[3] - 1.0 / v[4])) - v[6];
-        assert!(
-            (dm / 1e-6 - v[7]).abs() < 1e-9,
-            "the samples satisfy the model"
-        );
+        assert!((dm - v[7]).abs() < 1e-15, "the samples satisfy the model");
     }
     radforce()
         .args(["run", SNAPSHOT_SCENARIO, "--samples", f.to_str().unwrap()])

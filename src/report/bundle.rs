@@ -74,12 +74,13 @@ results = pd.DataFrame(
 results
 "##;
     let histograms = r##"def column(m):
-    return f"{m['name']} [{m['unit']}]" if m["unit"] else m["name"]
+    # samples.csv holds SI values, the unit in the header: "power [W]"
+    return next(c for c in samples.columns if c == m["name"] or c.startswith(m["name"] + " ["))
 
 p = summary["coverage_probability"]
 figures = []
 for m in summary["measurands"]:
-    values = samples[column(m)].to_numpy()
+    values = samples[column(m)].to_numpy() / m["unit_to_si"]  # to the report's unit
     fig, ax = plt.subplots(figsize=(8, 4.5))
     ax.hist(values, bins=80, density=True, color="#9ecae1", label="thinned trials")
     ax.axvline(m["estimate"], color="black", label="estimate")
@@ -90,7 +91,7 @@ for m in summary["measurands"]:
     if m.get("lpu"):
         for end in m["lpu"]["interval"]:
             ax.axvline(end, color="#756bb1", linestyle="-.")
-    ax.set_xlabel(column(m).replace(" [", " / ").rstrip("]"))
+    ax.set_xlabel(f"{m['name']} / {m['unit']}" if m["unit"] else m["name"])
     ax.set_ylabel("probability density")
     ax.set_title(f"Distribution of {m['name']}: {p:.0%} symmetric (dashed) and shortest (dotted) intervals")
     ax.legend()

@@ -148,10 +148,15 @@ pub(crate) fn samples(f: &Findings, s: &Samples, max_rows: Option<usize>) -> Vec
         });
     }
     for meas in &f.measurands {
-        header.push(if meas.unit.symbol.is_empty() {
+        // SI like the inputs: the dimension's coherent unit (a declared unit names it too).
+        let si = meas
+            .dimension
+            .or_else(|| crate::units::parse_unit(&meas.unit.symbol).ok().map(|u| u.dimension))
+            .map_or(String::new(), crate::units::Dimension::si_symbol);
+        header.push(if si.is_empty() {
             meas.name.clone()
         } else {
-            format!("{} [{}]", meas.name, meas.unit.symbol)
+            format!("{} [{si}]", meas.name)
         });
     }
     let mut w = csv::Writer::from_writer(Vec::new());
@@ -163,8 +168,8 @@ pub(crate) fn samples(f: &Findings, s: &Samples, max_rows: Option<usize>) -> Vec
         for col in inputs {
             row.push(g(col[i]));
         }
-        for (meas, col) in f.measurands.iter().zip(&s.measurands) {
-            row.push(g(col[i] / meas.unit.factor));
+        for col in &s.measurands {
+            row.push(g(col[i]));
         }
         let _ = w.write_record(&row);
     }

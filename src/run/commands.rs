@@ -38,6 +38,7 @@ pub fn run(args: &RunArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
     check_outputs(&args.out)?;
     if let Some(path) = &args.samples {
         output::check_writable(path, args.out.force)?;
+        output::check_folder(path)?;
     }
     // Input columns are kept for the input figures and the samples file.
     options.keep_inputs = args.out.plots.is_some() || args.samples.is_some();

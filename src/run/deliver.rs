@@ -6,11 +6,13 @@ use super::options::OutputArgs;
 use super::output;
 use crate::error::{Error, InputError, RunError};
 use crate::report::{self, Context, Report};
+use std::path::{Component, Path, PathBuf};
 
 /// Refuse before any work what could not be written afterwards.
 pub(crate) fn check_outputs(out: &OutputArgs) -> Result<(), Error> {
     if let Some(path) = &out.output {
         output::check_writable(path, out.force)?;
+        output::check_folder(path)?;
     }
     if let Some(dir) = &out.plots
         && dir.exists()
@@ -32,7 +34,10 @@ fn numerical(m: String) -> Error {
 /// Write the figures and the report; the report's bytes come back when they go to stdout.
 pub(crate) fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<Vec<u8>, Error> {
     let context = Context {
-        figures: out.plots.as_ref().map(|d| d.display().to_string()),
+        figures: out
+            .plots
+            .as_ref()
+            .map(|d| figure_link(out.output.as_deref(), d)),
         plot_format: out.plot_format,
     };
     // Render first: a report that cannot be written leaves no figure behind either.
@@ -55,5 +60,72 @@ pub(crate) fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<Vec<u8>, E
             Ok(Vec::new())
         }
         None => Ok(bytes),
+    }
+}
+
+/// The folder of the figures as a report links to it: relative to the report's own folder (the
+/// working folder when the report goes to stdout), with '/' separators and spaces as %20, so
+/// that the links resolve wherever the report and the figures are moved together.
+fn figure_link(report: Option<&Path>, plots: &Path) -> String {
+    let cwd = std::env::current_dir().unwrap_or_default();
+    let base = match report {
+        Some(r) => lexical(&cwd.join(r))
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or_default(),
+        None => lexical(&cwd),
+    };
+    let target = lexical(&cwd.join(plots));
+    relative_link(&base, &target)
+}
+
+/// A path with `.` and `..` resolved by its text alone (symbolic links are not followed: the
+/// link must be right for the folders as the user named them).
+fn lexical(p: &Path) -> PathBuf {
+    let mut out = PathBuf::new();
+    for c in p.components() {
+        match c {
+            Component::CurDir => {}
+            Component::ParentDir => {
+                out.pop();
+            }
+            other => out.push(other),
+        }
+    }
+    out
+}
+
+/// The relative link from folder `base` to `target`, both absolute and lexical.
+fn relative_link(base: &Path, target: &Path) -> String {
+    let b: Vec<Component> = base.components().collect();
+    let t: Vec<Component> = target.components().collect();
+    let common = b.iter().zip(&t).take_while(|(x, y)| x == y).count();
+    let mut parts: Vec<String> = vec!["..".to_string(); b.len() - common];
+    parts.extend(t[common..].iter().map(|c| {
+        c.as_os_str()
+            .to_string_lossy()
+            .replace('%', "%25")
+            .replace(' ', "%20")
+    }));
+    if parts.is_empty() {
+        ".".to_string()
+    } else {
+        parts.join("/")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // The figures' folder seen from the report's folder (common practice for relative links).
+    #[test]
+    fn links_are_relative_to_the_report() {
+        let l = |b: &str, t: &str| relative_link(&lexical(Path::new(b)), &lexical(Path::new(t)));
+        assert_eq!(l("/w/out/report", "/w/out/figs"), "../figs");
+        assert_eq!(l("/w", "/w/figs"), "figs");
+        assert_eq!(l("/w/a/b", "/w/a/b"), ".");
+        assert_eq!(l("/w/a/./b/../c", "/w/x y"), "../../x%20y");
+        assert_eq!(l("/w/r", "/w/r/figs/sub"), "figs/sub");
     }
 }

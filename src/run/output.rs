@@ -35,6 +35,24 @@ pub(crate) fn check_writable(path: &Path, force: bool) -> Result<(), Error> {
     Ok(())
 }
 
+/// Refuse, before any work, an output file whose folder does not exist.
+pub(crate) fn check_folder(path: &Path) -> Result<(), Error> {
+    if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty())
+        && !parent.is_dir()
+    {
+        return Err(InputError::file(
+            path.display().to_string(),
+            format!(
+                "cannot be written: its folder {} does not exist (create it first)",
+                parent.display()
+            ),
+        )
+        .with_example("mkdir -p results && radforce run study.toml -o results/study.json")
+        .into());
+    }
+    Ok(())
+}
+
 /// Write `bytes` to `path` through a temporary file and a rename.
 pub(crate) fn write_atomic(path: &Path, bytes: &[u8], force: bool) -> Result<(), Error> {
     check_writable(path, force)?;

@@ -320,6 +320,7 @@ pub(crate) fn run_shard(
         ));
     };
     output::check_writable(path, args.out.force)?;
+    output::check_folder(path)?;
     let text = std::fs::read_to_string(&args.study.file).map_err(|e| {
         InputError::file(
             study.file.clone(),
