@@ -203,4 +203,3 @@ impl TruncatedNormal {
         (m1, c2, c3, c4)
     }
 }
-

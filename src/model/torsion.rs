@@ -20,9 +20,7 @@ use super::chain::{
     Alternative, Chain, ChainContext, ChainInput, ChainIssue, ChainMeasurand, ChainSpec, Domain,
     Forecastable, HEATING_INPUTS, InputValues, NOISE_FORCE_INPUT, Subsystem, input, join,
 };
-use super::optics::{
-    OPTICS_INPUTS, OPTICS_REFLECTANCE_S, POLARISATION, optics_checks, per_watt,
-};
+use super::optics::{OPTICS_INPUTS, OPTICS_REFLECTANCE_S, POLARISATION, optics_checks, per_watt};
 use crate::physics::noise::{Damping, NoiseSettings, readout_torque_psd, thermal_torque_psd};
 use crate::physics::response::Instrument;
 use crate::physics::torsion::{
@@ -384,9 +382,8 @@ fn pendulum_constants(inputs: &InputValues<'_>) -> (Option<f64>, Option<f64>) {
     let q = est("quality_factor").filter(|q| q.is_finite());
     let (period, inertia) = (est("free_period"), est("moment_of_inertia"));
     if let Some(kappa) = est("torsion_constant") {
-        let period = period.or_else(|| {
-            inertia.map(|i| 2.0 * std::f64::consts::PI * (i / kappa).sqrt())
-        });
+        let period =
+            period.or_else(|| inertia.map(|i| 2.0 * std::f64::consts::PI * (i / kappa).sqrt()));
         return (Some(kappa), period);
     }
     let kappa = match (inertia, period) {
@@ -482,9 +479,8 @@ mod tests {
     /// Rd, R_s, R_p, psi, tilt, n, R_fold, bounces, Q, stray, noise, h, tau_h, anelastic, kappa.
     fn args(first: f64) -> [f64; N_INPUTS] {
         [
-            first, 2.0, 240.0, 3.0e-4, 0.05, 0.9995, 0.2, 1.5e-3, 6e-3, 1e-4, 2e-4, 0.9997,
-            0.9990, 0.3, -0.002, 1.00027, 0.9998, 3.0, 5000.0, 1e-12, 2e-13, 3e-9, 40.0, 1e-4,
-            2.1e-4,
+            first, 2.0, 240.0, 3.0e-4, 0.05, 0.9995, 0.2, 1.5e-3, 6e-3, 1e-4, 2e-4, 0.9997, 0.9990,
+            0.3, -0.002, 1.00027, 0.9998, 3.0, 5000.0, 1e-12, 2e-13, 3e-9, 40.0, 1e-4, 2.1e-4,
         ]
     }
 
@@ -504,7 +500,12 @@ mod tests {
         let choices: [&[&str]; 5] = [
             &[],
             &["mirror_tilt"],
-            &["reflectance_s", "reflectance_p", "polarisation_angle", "mirror_tilt"],
+            &[
+                "reflectance_s",
+                "reflectance_p",
+                "polarisation_angle",
+                "mirror_tilt",
+            ],
             &["torsion_constant", "moment_of_inertia"],
             &["torsion_constant", "free_period", "mirror_tilt"],
         ];

@@ -17,7 +17,9 @@ use super::chain::{
     Chain, ChainContext, ChainInput, ChainMeasurand, ChainSpec, Domain, Forecastable,
     HEATING_INPUTS, InputValues, NOISE_FORCE_INPUT, Subsystem, input, join,
 };
-use super::optics::{OPTICS_INPUTS, OPTICS_REFLECTANCE_S, POLARISATION, per_watt as optics_per_watt};
+use super::optics::{
+    OPTICS_INPUTS, OPTICS_REFLECTANCE_S, POLARISATION, per_watt as optics_per_watt,
+};
 use crate::physics::balance::{balance_reading, force_from_reading};
 use crate::physics::constants::STANDARD_GRAVITY;
 use crate::physics::response::Instrument;

@@ -151,7 +151,11 @@ pub(crate) fn samples(f: &Findings, s: &Samples, max_rows: Option<usize>) -> Vec
         // SI like the inputs: the dimension's coherent unit (a declared unit names it too).
         let si = meas
             .dimension
-            .or_else(|| crate::units::parse_unit(&meas.unit.symbol).ok().map(|u| u.dimension))
+            .or_else(|| {
+                crate::units::parse_unit(&meas.unit.symbol)
+                    .ok()
+                    .map(|u| u.dimension)
+            })
             .map_or(String::new(), crate::units::Dimension::si_symbol);
         header.push(if si.is_empty() {
             meas.name.clone()

@@ -241,3 +241,131 @@ mod tests {
         assert_eq!(significant(123456.0, 3), "1.23e5");
     }
 }
+
+/// A unit symbol as print writes it, for Markdown, HTML and figures: the micro prefix as µ,
+/// degrees, minutes and seconds of arc as ° ′ ″, and powers as superscripts ("uN m/rad" ->
+/// "µN m/rad", "kg m^2" -> "kg m²", "deg" -> "°"). The terminal keeps the ASCII symbol.
+pub(crate) fn pretty_unit(symbol: &str) -> String {
+    let mut out = String::with_capacity(symbol.len() + 4);
+    let mut token = String::new();
+    let flush = |token: &mut String, out: &mut String| {
+        if token.is_empty() {
+            return;
+        }
+        let (base, power) = match token.split_once('^') {
+            Some((b, p)) => (b.to_string(), Some(p.to_string())),
+            None => (token.clone(), None),
+        };
+        let base = match base.as_str() {
+            "deg" => "\u{b0}".to_string(),
+            "arcmin" => "\u{2032}".to_string(),
+            "arcsec" => "\u{2033}".to_string(),
+            b if b.len() > 1
+                && b.starts_with('u')
+                && crate::units::parse_unit(&b[1..]).is_ok()
+                && crate::units::parse_unit(b).is_ok() =>
+            {
+                format!("\u{b5}{}", &b[1..])
+            }
+            b => b.to_string(),
+        };
+        out.push_str(&base);
+        if let Some(p) = power {
+            for c in p.chars() {
+                out.push(match c {
+                    '-' => '\u{207b}',
+                    '0' => '\u{2070}',
+                    '1' => '\u{b9}',
+                    '2' => '\u{b2}',
+                    '3' => '\u{b3}',
+                    '4'..='9' => char::from_u32(0x2074 + (c as u32 - '4' as u32)).unwrap_or(c),
+                    c => c,
+                });
+            }
+        }
+        token.clear();
+    };
+    for c in symbol.chars() {
+        if c == ' ' || c == '/' || c == '*' || c == '(' || c == ')' {
+            flush(&mut token, &mut out);
+            out.push(c);
+        } else {
+            token.push(c);
+        }
+    }
+    flush(&mut token, &mut out);
+    out
+}
+
+#[cfg(test)]
+mod pretty_tests {
+    use super::pretty_unit;
+
+    #[test]
+    fn units_for_print() {
+        assert_eq!(pretty_unit("uN m/rad"), "\u{b5}N m/rad");
+        assert_eq!(pretty_unit("kg m^2"), "kg m\u{b2}");
+        assert_eq!(pretty_unit("deg"), "\u{b0}");
+        assert_eq!(pretty_unit("m s^-2"), "m s\u{207b}\u{b2}");
+        assert_eq!(pretty_unit("ug"), "\u{b5}g");
+        assert_eq!(pretty_unit("W"), "W");
+        assert_eq!(pretty_unit(""), "");
+    }
+}
+
+/// Why the law of propagation was not validated against the Monte Carlo result, in words: which
+/// end of the interval differs by how much against delta (JCGM 101 8.2), what that usually
+/// means here, and that the Monte Carlo result is the one to quote; `None` when validated.
+pub(crate) fn validation_words(
+    f: &crate::analysis::Findings,
+    m: &crate::analysis::MeasurandFinding,
+) -> Option<String> {
+    let v = m.validation.as_ref()?;
+    if v.first_order.validated {
+        return None;
+    }
+    let unit = measurand_unit(m);
+    let k = unit.factor;
+    let v1 = &v.first_order;
+    let ends: Vec<String> = [("lower", v1.d_low), ("upper", v1.d_high)]
+        .iter()
+        .filter(|(_, d)| *d > v1.delta)
+        .map(|(end, d)| {
+            format!(
+                "the {end} end differs by {} {} ({:.1} delta)",
+                significant(d / k, 2),
+                unit.symbol,
+                d / v1.delta
+            )
+        })
+        .collect();
+    let t_input = m
+        .budget
+        .iter()
+        .any(|r| r.share > 0.01 && f.inputs[r.input].dof.is_some());
+    // Standard error of a 95 % interval end of a normal output from M trials:
+    // sqrt(p (1 - p)) / phi(z_p) u / sqrt(M) = 2.67 u / sqrt(M) (the asymptotic variance of a
+    // sample quantile; common practice).
+    let end_noise = 2.67 * m.monte_carlo.standard_uncertainty / (f.trials as f64).sqrt();
+    let worst = v1.d_low.max(v1.d_high);
+    let why = if worst < 3.0 * end_noise {
+        "the difference is within the Monte Carlo scatter of the interval ends at this number of trials (about {noise} each): run more trials, or an adaptive run, before reading anything into it"
+    } else if v.higher_order.is_some_and(|h| h.validated) {
+        "the model is non-linear over the inputs' spread, and its higher-order terms, which are validated, account for it"
+    } else if t_input {
+        "an input with few degrees of freedom (t or readings) gives the output heavier tails than a normal"
+    } else {
+        "the output is not Gaussian (skewed, flat or heavy-tailed: see its distribution) or the model is non-linear over the inputs' spread"
+    };
+    Some(format!(
+        "{}: the law of propagation is not validated (JCGM 101 8.2, delta = {} {}): {}. Likely cause: {}. Quote the Monte Carlo result.",
+        m.name,
+        significant(v1.delta / k, 2),
+        unit.symbol,
+        ends.join(" and "),
+        why.replace(
+            "{noise}",
+            &format!("{} {}", significant(end_noise / k, 2), unit.symbol)
+        )
+    ))
+}

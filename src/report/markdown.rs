@@ -4,7 +4,7 @@
 use super::cautions::cautions;
 use super::decisions_text::{target_value, target_words};
 use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
-use super::format::{grouped, percent};
+use super::format::{grouped, percent, pretty_unit};
 use super::{Context, Exporter, Report};
 use crate::analysis::planning::{Comparison, PlanFinding};
 use crate::analysis::{Findings, MeasurandFinding};
@@ -61,7 +61,13 @@ fn shares_sentence(f: &Findings, m: &MeasurandFinding) -> String {
         .iter()
         .take(3)
         .filter(|b| b.share >= 0.005)
-        .map(|b| format!("{:.0} % from {}", 100.0 * b.share, input_words(&f.inputs[b.input])))
+        .map(|b| {
+            format!(
+                "{:.0} % from {}",
+                100.0 * b.share,
+                input_words(&f.inputs[b.input])
+            )
+        })
         .collect();
     match parts.as_slice() {
         [] => String::new(),
@@ -99,19 +105,22 @@ pub(crate) fn headline(f: &Findings, m: &MeasurandFinding) -> String {
         .coverage_factor
         .map_or("-".to_string(), |k| format!("{k:.2}"));
     let what = match (&m.label, m.name.as_str()) {
-        (Some(l), _) => format!("the {l} is estimated as {y} {}", unit.symbol),
-        (None, "power") => format!("a beam of about {y} {} is measured", unit.symbol),
+        (Some(l), _) => format!("the {l} is estimated as {y} {}", pretty_unit(&unit.symbol)),
+        (None, "power") => format!(
+            "a beam of about {y} {} is measured",
+            pretty_unit(&unit.symbol)
+        ),
         (None, name) => format!(
             "the {} is estimated as {y} {}",
             name.replace('_', " "),
-            unit.symbol
+            pretty_unit(&unit.symbol)
         ),
     };
     let rel = if rel_u == "-" {
         format!(
             "an expanded uncertainty of {} {}",
             value_and_uncertainty(0.0, s.expanded_uncertainty / unit.factor).1,
-            unit.symbol
+            pretty_unit(&unit.symbol)
         )
     } else {
         format!("a relative expanded uncertainty of {rel_u}")
@@ -120,7 +129,7 @@ pub(crate) fn headline(f: &Findings, m: &MeasurandFinding) -> String {
         "With the design \u{201c}{}\u{201d}, {what} with {rel} (k = {k}, {} coverage probability; standard uncertainty {u} {}).{}",
         f.title,
         percent(f.coverage),
-        unit.symbol,
+        pretty_unit(&unit.symbol),
         shares_sentence(f, m) + &subsystem_sentence(m)
     )
 }
@@ -182,7 +191,7 @@ impl MarkdownReport {
                 };
                 vec![
                     m.name.clone(),
-                    unit.symbol.clone(),
+                    pretty_unit(&unit.symbol),
                     y,
                     u,
                     relative_percent(s.relative_standard_uncertainty()),
@@ -210,20 +219,23 @@ impl MarkdownReport {
             out.push_str(&format!(
                 "\n## Uncertainty budget of {} ({})\n\n",
                 measurand_words(m),
-                unit.symbol
+                pretty_unit(&unit.symbol)
             ));
             if let (Some(l), Some(v)) = (&m.lpu, &m.validation) {
                 out.push_str(&format!(
                     "Law of propagation (JCGM 100:2008): u_c = {} {}{}, effective degrees of freedom {}, k = {:.3}; {} against the Monte Carlo result (JCGM 101 clause 8, delta = {} {}).\n\n",
                     value_and_uncertainty(0.0, l.standard_uncertainty / unit.factor).1,
-                    unit.symbol,
+                    pretty_unit(&unit.symbol),
                     l.higher_order_standard_uncertainty.map_or(String::new(), |h| format!(" ({} with the higher-order terms)", value_and_uncertainty(0.0, h / unit.factor).1)),
                     if l.effective_dof.is_finite() { format!("{:.0}", l.effective_dof.floor()) } else { "infinite".into() },
                     l.coverage_factor,
                     if v.first_order.validated { "validated" } else { "not validated" },
                     significant(v.first_order.delta / unit.factor, 1),
-                    unit.symbol
+                    pretty_unit(&unit.symbol)
                 ));
+                if let Some(words) = super::format::validation_words(f, m) {
+                    out.push_str(&format!("{words}\n\n"));
+                }
             }
             let mut rows: Vec<Vec<String>> = Vec::new();
             for part in &m.by_subsystem {
@@ -235,7 +247,7 @@ impl MarkdownReport {
                     format!(
                         "**{} {}**",
                         significant(part.contribution / unit.factor, 2),
-                        unit.symbol
+                        pretty_unit(&unit.symbol)
                     ),
                     format!("**{:.1} %**", 100.0 * part.share),
                 ]);
@@ -247,6 +259,7 @@ impl MarkdownReport {
                         &q.shown_unit,
                         q.dimension,
                     );
+                    let shown = pretty_unit(&shown);
                     let no_effect = b.share < 1e-6;
                     rows.push(vec![
                         format!("&nbsp;&nbsp;{}", input_words(q)),
@@ -259,7 +272,7 @@ impl MarkdownReport {
                             format!(
                                 "{} {}",
                                 significant(b.contribution / unit.factor, 2),
-                                unit.symbol
+                                pretty_unit(&unit.symbol)
                             )
                         },
                         if no_effect {
@@ -342,8 +355,8 @@ impl MarkdownReport {
                 vec![
                     format!("{}", r.rank),
                     r.name.clone(),
-                    format!("{y} {}", unit.symbol),
-                    format!("{u} {}", unit.symbol),
+                    format!("{y} {}", pretty_unit(&unit.symbol)),
+                    format!("{u} {}", pretty_unit(&unit.symbol)),
                     format!(
                         "{} %",
                         significant(100.0 * r.relative_expanded_uncertainty, 2)
@@ -439,7 +452,7 @@ impl MarkdownReport {
                     format!(
                         "{} {}",
                         significant(u / q.shown_unit.factor, 3),
-                        q.shown_unit.symbol
+                        pretty_unit(&q.shown_unit.symbol)
                     )
                     .trim()
                     .to_string()
@@ -502,7 +515,7 @@ fn noise_and_procedure(f: &Findings) -> String {
             significant(fc.power, 4),
             fc.input,
             significant(fc.value / fc.unit.factor, 6),
-            fc.unit.symbol
+            pretty_unit(&fc.unit.symbol)
         ));
     }
     if let Some(n) = &f.noise {

@@ -77,4 +77,6 @@ formats! {
     Markdown(markdown::MarkdownReport),
     /// The summary and the budget as CSV tables (one after the other).
     Csv(csv::CsvReport),
+    /// One self-contained HTML page (the Markdown report's words, figures inline as SVG, no script), printable on A4.
+    Html(html::HtmlReport),
 }

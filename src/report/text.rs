@@ -253,6 +253,11 @@ fn lpu_section(out: &mut String, f: &Findings) {
         ]);
     }
     out.push_str(&t.render());
+    for m in &f.measurands {
+        if let Some(words) = super::format::validation_words(f, m) {
+            out.push_str(&format!("  {words}\n"));
+        }
+    }
 }
 
 /// The uncertainty budget of one measurand.
@@ -284,7 +289,9 @@ fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
             "share of u^2 (# = 5 %)",
             "dof",
         ],
-        &[false, false, true, true, false, true, true, true, false, true],
+        &[
+            false, false, true, true, false, true, true, true, false, true,
+        ],
     );
     for part in &m.by_subsystem {
         t.row(vec![
@@ -335,7 +342,12 @@ fn share_bar(share: f64) -> String {
 }
 
 /// One input's row of the budget, indented under its subsystem.
-fn budget_row(t: &mut TextTable, f: &Findings, r: &crate::analysis::budget::BudgetRow, unit: &crate::units::DisplayUnit) {
+fn budget_row(
+    t: &mut TextTable,
+    f: &Findings,
+    r: &crate::analysis::budget::BudgetRow,
+    unit: &crate::units::DisplayUnit,
+) {
     let k = unit.factor;
     {
         let q = &f.inputs[r.input];

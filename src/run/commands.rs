@@ -41,7 +41,10 @@ pub fn run(args: &RunArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
         output::check_folder(path)?;
     }
     // Input columns are kept for the input figures and the samples file.
-    options.keep_inputs = args.out.plots.is_some() || args.samples.is_some();
+    // The HTML report draws the figures into the page.
+    options.keep_inputs = args.out.plots.is_some()
+        || args.samples.is_some()
+        || args.out.format == crate::report::Format::Html;
     if args.samples.is_some() && !super::fits_in_memory(&study, &options) {
         return Err(command_line_error(
             "--samples",

@@ -4,6 +4,7 @@
 //! backend.
 
 mod allan;
+mod budget;
 mod comparison;
 mod distributions;
 mod procedure;
@@ -159,6 +160,15 @@ pub(crate) fn file_name(prefix: &str, name: &str, format: PlotFormat) -> String 
 /// The figures the findings call for, as (file name, caption), without drawing them.
 pub(crate) fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, String)> {
     let mut out = Vec::new();
+    for m in f.measurands.iter().filter(|m| !m.budget.is_empty()) {
+        out.push((
+            file_name("budget", &m.name, format),
+            format!(
+                "Uncertainty budget of {} by part of the apparatus",
+                m.label.as_deref().unwrap_or(&m.name)
+            ),
+        ));
+    }
     for m in &f.measurands {
         if m.shape.is_some() {
             out.push((
@@ -230,6 +240,10 @@ pub(crate) fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, S
             bytes,
         });
     };
+    for m in f.measurands.iter().filter(|m| !m.budget.is_empty()) {
+        let height = (90 + 24 * budget::rows(f, m).len() as u32).clamp(260, 1400);
+        push(chart!(format, (820, height), |a| budget::draw(a, f, m))?);
+    }
     for m in &f.measurands {
         if let Some(shape) = &m.shape {
             push(chart!(format, (800, 500), |a| distributions::measurand(
