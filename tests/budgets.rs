@@ -212,3 +212,54 @@ fn markdown_links_resolve_from_the_report_folder() {
         assert!(report_dir.join(link).is_file(), "{link} does not resolve");
     }
 }
+
+// compare numbers the designs (D1, D2 in file order) with a key of their titles, and its tables
+// stay narrow enough for a terminal (the issue measured 226 characters).
+#[test]
+fn compare_tables_fit_a_terminal() {
+    let out = radforce()
+        .args(["compare", "data/compare-1kw-torsion-vs-balance.toml"])
+        .args(["--trials", "20000", "-q"])
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("D1  1 kW: torsion pendulum"), "{text}");
+    for line in text.lines().filter(|l| {
+        l.starts_with("rank") || l.starts_with("design") || l.trim_start().starts_with(['1', '2'])
+    }) {
+        assert!(
+            line.chars().count() <= 120,
+            "{} wide: {line}",
+            line.chars().count()
+        );
+    }
+}
+
+// A plan says "no effect" for an input whose share of u_c^2 is below 1e-6 (the torsion demo's
+// beam radius: its mirror catches all but 1e-13 of the beam) instead of a meaningless u.
+#[test]
+fn plan_says_no_effect() {
+    let r = run_json_plan();
+    let alone = r["plan"]["alone"].as_array().expect("alone rows");
+    let beam = alone.iter().find(|a| a["input"] == "beam_radius").unwrap();
+    assert_eq!(beam["no_effect"], true);
+    assert!(beam["needed"].is_null());
+    let stray = alone.iter().find(|a| a["input"] == "stray_force").unwrap();
+    assert_eq!(stray["no_effect"], false);
+    assert!(num(stray, "needed") > 0.0);
+}
+
+fn run_json_plan() -> Value {
+    let out = radforce()
+        .args(["plan", "data/torsion-vacuum-20w.toml", "--target", "2%"])
+        .args(["--trials", "20000", "-q", "--format", "json"])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).unwrap()
+}

@@ -69,6 +69,9 @@ pub(crate) struct AloneRow {
     pub(crate) needed: Option<f64>,
     /// The uncertainty the other inputs leave when this one is made exact, in target terms.
     pub(crate) floor: f64,
+    /// Its share of u_c^2 is below 1e-6: it has no first-order effect, so no value of its u
+    /// matters to the plan (a "needed" u would be an astronomically large, meaningless number).
+    pub(crate) no_effect: bool,
 }
 
 /// One improved input of a plan.
@@ -143,6 +146,7 @@ pub(crate) fn propose(
                 current: u,
                 needed: needed.filter(|n| c * n >= least),
                 floor: spec.express_standard(rest.max(0.0).sqrt(), y, k),
+                no_effect: a * a < 1e-6 * uc2,
             }
         })
         .collect();

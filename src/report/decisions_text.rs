@@ -43,6 +43,9 @@ pub(crate) fn comparison(c: &Comparison) -> String {
         grouped(c.trials),
         c.seed
     ));
+    // Two narrow tables (the results; what dominates and the noise) with the designs numbered
+    // D1, D2, ... in file order and a key of their titles, so that the report fits a terminal;
+    // the full rows are in the JSON and CSV reports.
     let mut t = TextTable::new(
         &[
             "rank",
@@ -53,17 +56,22 @@ pub(crate) fn comparison(c: &Comparison) -> String {
             "u rel.",
             &format!("U rel. ({p})"),
             &format!("{p} interval"),
+        ],
+        &[true, false, false, true, true, true, true, false],
+    );
+    let mut t2 = TextTable::new(
+        &[
+            "design",
             "largest contributors",
             "noise floor",
             "time for target",
         ],
-        &[
-            true, false, false, true, true, true, true, false, false, false, false,
-        ],
+        &[false, false, false, false],
     );
     let mut order: Vec<usize> = (0..c.rows.len()).collect();
     order.sort_by_key(|i| c.rows[*i].rank);
     for i in order {
+        let id = format!("D{}", i + 1);
         let r = &c.rows[i];
         let mf = &r.findings.measurands[r.measurand];
         let unit = measurand_unit(mf);
@@ -100,7 +108,7 @@ pub(crate) fn comparison(c: &Comparison) -> String {
         };
         t.row(vec![
             format!("{}", r.rank),
-            r.name.clone(),
+            id.clone(),
             unit.symbol.clone(),
             y,
             u,
@@ -114,12 +122,16 @@ pub(crate) fn comparison(c: &Comparison) -> String {
                 fixed(s.symmetric_interval.0 / unit.factor, e),
                 fixed(s.symmetric_interval.1 / unit.factor, e)
             ),
-            top.join(", "),
-            noise,
-            time,
         ]);
+        t2.row(vec![id, top.join(", "), noise, time]);
     }
     out.push_str(&t.render());
+    out.push('\n');
+    for (i, r) in c.rows.iter().enumerate() {
+        out.push_str(&format!("D{}  {}\n", i + 1, r.name));
+    }
+    out.push('\n');
+    out.push_str(&t2.render());
     out.push_str(&format!(
         "noise floor: {}\n\n",
         crate::scenario::PSD_CONVENTION
@@ -164,6 +176,16 @@ pub(crate) fn plan(p: &PlanFinding) -> String {
                 .trim_end()
                 .to_string()
         };
+        if a.no_effect {
+            t.row(vec![
+                q.name.clone(),
+                show(a.current),
+                "no effect (1st order)".into(),
+                "-".into(),
+                String::new(),
+            ]);
+            continue;
+        }
         t.row(vec![
             q.name.clone(),
             show(a.current),

@@ -457,8 +457,16 @@ impl MarkdownReport {
                     .trim()
                     .to_string()
                 };
+                if a.no_effect {
+                    return vec![
+                        input_words(q),
+                        show(a.current),
+                        "no effect (1st order)".into(),
+                        "-".into(),
+                    ];
+                }
                 vec![
-                    q.name.clone(),
+                    input_words(q),
                     show(a.current),
                     a.needed.map_or("cannot reach alone".into(), show),
                     if a.needed.is_none() {

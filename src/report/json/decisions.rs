@@ -136,6 +136,7 @@ struct AloneJson<'a> {
     current: f64,
     needed: Option<f64>,
     floor: f64,
+    no_effect: bool,
 }
 
 /// The JSON of a plan, as typed data.
@@ -182,8 +183,9 @@ pub(crate) fn plan_json(p: &PlanFinding) -> PlanJson<'_> {
                 .map(|a| AloneJson {
                     input: &f.inputs[a.input].name,
                     current: a.current,
-                    needed: a.needed,
+                    needed: (!a.no_effect).then_some(a.needed).flatten(),
                     floor: a.floor,
+                    no_effect: a.no_effect,
                 })
                 .collect(),
             explanation: &p.proposal.explanation,

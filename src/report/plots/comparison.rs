@@ -34,11 +34,35 @@ where
         .fold(0.0f64, f64::max)
         * 1.15;
     let span = if span > 0.0 { span } else { 1.0 };
+    // Designs are numbered D1, D2, ... on the axis; the key under the chart gives their titles
+    // (long titles would overprint each other on the axis).
     let names: Vec<String> = c
         .rows
         .iter()
-        .map(|r| format!("{} (rank {})", r.name, r.rank))
+        .enumerate()
+        .map(|(i, r)| format!("D{} (rank {})", i + 1, r.rank))
         .collect();
+    let key_height = key_height(c.rows.len());
+    let (width, height) = area.dim_in_pixel();
+    let (area, key) = area.split_vertically(height.saturating_sub(key_height));
+    for (i, r) in c.rows.iter().enumerate() {
+        let title: String = if r.name.chars().count() > 110 {
+            r.name
+                .chars()
+                .take(109)
+                .chain(std::iter::once('\u{2026}'))
+                .collect()
+        } else {
+            r.name.clone()
+        };
+        key.draw(&Text::new(
+            format!("D{}  {title}", i + 1),
+            (24, 6 + KEY_LINE as i32 * i as i32),
+            ("sans-serif", 13).into_font().color(&BLACK),
+        ))?;
+    }
+    let _ = width;
+    let area = &area;
     let segments = n.max(2);
     let first = &c.rows[0];
     let m = &first.findings.measurands[first.measurand];
@@ -83,4 +107,12 @@ where
         )
     }))?;
     Ok(())
+}
+
+/// Height of one line of the key, pixels.
+const KEY_LINE: u32 = 20;
+
+/// Height of the key under the chart for `n` designs, pixels.
+pub(crate) fn key_height(n: usize) -> u32 {
+    12 + KEY_LINE * n as u32
 }

@@ -320,11 +320,12 @@ pub(crate) fn comparison_figures(
     c: &Comparison,
     format: PlotFormat,
 ) -> Result<Vec<Figure>, String> {
-    let width = (200 + 120 * c.rows.len() as u32).clamp(640, 1600);
+    let width = (200 + 120 * c.rows.len() as u32).clamp(760, 1600);
+    let height = 480 + comparison::key_height(c.rows.len());
     Ok(vec![Figure {
         file: format!("comparison.{}", format.extension()),
         caption: "Coverage intervals of the designs, relative to each estimate".into(),
-        bytes: chart!(format, (width, 480), |a| comparison::draw(a, c))?,
+        bytes: chart!(format, (width, height), |a| comparison::draw(a, c))?,
     }])
 }
 

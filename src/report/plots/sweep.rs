@@ -43,10 +43,18 @@ where
                     .unwrap_or(f64::NAN)
         })
         .collect();
-    let (x0, x1) = (
+    let (lo, hi) = (
         xs.iter().copied().fold(f64::INFINITY, f64::min),
         xs.iter().copied().fold(f64::NEG_INFINITY, f64::max),
     );
+    // A margin of 5 % of the span on each side, so that the first and last points and their
+    // ticks are drawn whole.
+    let pad = if hi > lo {
+        0.05 * (hi - lo)
+    } else {
+        0.05 * lo.abs().max(1.0)
+    };
+    let (x0, x1) = (lo - pad, hi + pad);
     let ymax = rel_big.iter().copied().fold(0.0f64, f64::max) * 1.1;
     let ymax = if ymax > 0.0 && ymax.is_finite() {
         ymax
@@ -56,7 +64,10 @@ where
     let unit = if q.shown_unit.symbol.is_empty() {
         String::new()
     } else {
-        format!(" / {}", q.shown_unit.symbol)
+        format!(
+            " / {}",
+            crate::report::format::pretty_unit(&q.shown_unit.symbol)
+        )
     };
     let mut chart = ChartBuilder::on(area)
         .caption(
