@@ -47,6 +47,10 @@ pub enum Command {
     New {
         /// Name of the new scenario (".toml" is added when missing).
         name: String,
+        /// The chain of the starter (torsion-power, torsion-signal, weighing-power,
+        /// weighing-signal), or "forecast" for a planned meter with its noise and procedure.
+        #[arg(long, default_value = "torsion-power")]
+        chain: String,
         /// Replace an existing file.
         #[arg(long)]
         force: bool,

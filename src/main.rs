@@ -49,7 +49,7 @@ fn main() -> ExitCode {
             Ok(out)
         }
         Command::Check { file } => commands::check(file),
-        Command::New { name, force } => commands::new_scenario(name, *force),
+        Command::New { name, chain, force } => commands::new_scenario(name, chain, *force),
     };
     match result {
         Ok(bytes) => {

@@ -199,6 +199,72 @@ fn the_starter_scenario_runs_as_written() {
         .success();
 }
 
+// `radforce new --chain` writes a starter of every built-in chain and a forecast, each running
+// unchanged with its chain's measurands and no warning; an unknown starter is refused (exit 2).
+#[test]
+fn every_chain_has_a_starter_that_runs() {
+    let dir = scratch("starters");
+    for (chain, measurand) in [
+        ("torsion-power", "power"),
+        ("torsion-signal", "readout_shift"),
+        ("weighing-power", "power"),
+        ("weighing-signal", "reading"),
+        ("forecast", "power"),
+    ] {
+        let name = dir.join(chain);
+        radforce()
+            .args(["new", name.to_str().unwrap(), "--chain", chain])
+            .assert()
+            .success();
+        let file = dir.join(format!("{chain}.toml"));
+        let out = radforce()
+            .args([
+                "run",
+                file.to_str().unwrap(),
+                "--trials",
+                "20000",
+                "--format",
+                "json",
+            ])
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{chain}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let r: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        assert!(
+            r["measurands"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|m| m["name"] == measurand),
+            "{chain}"
+        );
+        let warnings = r["warnings"].as_array().unwrap();
+        assert!(
+            warnings
+                .iter()
+                .all(|w| w.as_str().unwrap().contains("trials")),
+            "{chain}: {warnings:?}"
+        );
+        if chain == "forecast" {
+            assert!(r.get("forecast").is_some() && r.get("procedure").is_some());
+        }
+    }
+    radforce()
+        .args([
+            "new",
+            dir.join("x").to_str().unwrap(),
+            "--chain",
+            "cantilever",
+        ])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("starters: torsion-power"));
+}
+
 // An output file is replaced only with --force, and then whole (common practice).
 #[test]
 fn output_file_is_written_whole_and_not_replaced_without_force() {

@@ -235,11 +235,37 @@ pub fn check(file: &Path) -> Result<Vec<u8>, Error> {
     Ok(text.into_bytes())
 }
 
-/// The commented starter scenario of `radforce new`.
-const STARTER: &str = include_str!("../starter.toml");
+/// The commented starter scenarios of `radforce new --chain`: one per chain, and a forecast.
+const STARTERS: &[(&str, &str)] = &[
+    (
+        "torsion-power",
+        include_str!("../starters/torsion-power.toml"),
+    ),
+    (
+        "torsion-signal",
+        include_str!("../starters/torsion-signal.toml"),
+    ),
+    (
+        "weighing-power",
+        include_str!("../starters/weighing-power.toml"),
+    ),
+    (
+        "weighing-signal",
+        include_str!("../starters/weighing-signal.toml"),
+    ),
+    ("forecast", include_str!("../starters/forecast.toml")),
+];
 
-/// `radforce new NAME`: write a commented starter scenario that runs as written.
-pub fn new_scenario(name: &str, force: bool) -> Result<Vec<u8>, Error> {
+/// `radforce new NAME --chain CHAIN`: write a commented starter scenario that runs as written.
+pub fn new_scenario(name: &str, chain: &str, force: bool) -> Result<Vec<u8>, Error> {
+    let Some((_, starter)) = STARTERS.iter().find(|(c, _)| *c == chain) else {
+        let known: Vec<&str> = STARTERS.iter().map(|(c, _)| *c).collect();
+        return Err(command_line_error(
+            "--chain",
+            format!("no starter for {chain:?}; starters: {}", known.join(", ")),
+            "radforce new study --chain weighing-power",
+        ));
+    };
     let path = if name.ends_with(".toml") {
         PathBuf::from(name)
     } else {
@@ -248,7 +274,7 @@ pub fn new_scenario(name: &str, force: bool) -> Result<Vec<u8>, Error> {
     let title = path
         .file_stem()
         .map_or("new study".into(), |s| s.to_string_lossy().into_owned());
-    let text = STARTER.replacen("Starter study", &title.replace('"', "'"), 1);
+    let text = starter.replacen("Starter study", &title.replace('"', "'"), 1);
     output::write_atomic(&path, text.as_bytes(), force)?;
     Ok(format!(
         "wrote {}; run it with: radforce run {}\n",
