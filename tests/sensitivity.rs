@@ -86,7 +86,7 @@ fn bootstrap_intervals_cover_the_analytic_indices() {
         })
         .unwrap()
         .unwrap();
-        let ix = indices(&runs, 0, 0.95, 300, seed);
+        let ix = indices(&runs, 0.95, 300, seed).swap_remove(0);
         for (f, (s1, st)) in ix.iter().zip(ISHIGAMI) {
             for (iv, truth) in [(f.first_order_interval, s1), (f.total_interval, st)] {
                 total += 1;
@@ -229,7 +229,7 @@ fn sobol_base_samples_converge_faster() {
         let mut n = 0.0;
         for seed in 0..8u64 {
             let runs = design_runs(&study, 4096, sampler, seed).unwrap();
-            let ix = indices(&runs, 0, 0.95, 50, seed);
+            let ix = indices(&runs, 0.95, 50, seed).swap_remove(0);
             for (f, p) in ix.iter().zip(parts) {
                 sq += (f.first_order - p / total).powi(2) + (f.total - p / total).powi(2);
                 n += 2.0;

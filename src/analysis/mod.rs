@@ -442,42 +442,44 @@ pub(crate) fn sensitivity_finding(
     };
     let meas_cols: Vec<&[f64]> = samples.measurands.iter().map(Vec::as_slice).collect();
     let meas_ranks = sensitivity::rank_columns(&meas_cols);
-    let measurands = (0..study.measurands.len())
-        .map(|m| {
-            let mut rows: Vec<SensitivityRow> =
-                sensitivity::indices(runs, m, method.confidence, method.replicates, seed)
-                    .into_iter()
-                    .map(|ix| {
-                        let name = ix
-                            .members
+    let all = sensitivity::indices(runs, method.confidence, method.replicates, seed);
+    let measurands = all
+        .into_iter()
+        .enumerate()
+        .map(|(m, factors)| {
+            let mut rows: Vec<SensitivityRow> = factors
+                .into_iter()
+                .map(|ix| {
+                    let name = ix
+                        .members
+                        .iter()
+                        .map(|i| study.inputs[*i].name.as_str())
+                        .collect::<Vec<_>>()
+                        .join("+");
+                    let spearman = match ix.members.as_slice() {
+                        [i] => input_ranks[*i]
+                            .as_ref()
+                            .and_then(|r| sensitivity::spearman_ranked(r, &meas_ranks[m])),
+                        _ => None,
+                    };
+                    let lpu_share = (!findings.measurands[m].budget.is_empty()).then(|| {
+                        findings.measurands[m]
+                            .budget
                             .iter()
-                            .map(|i| study.inputs[*i].name.as_str())
-                            .collect::<Vec<_>>()
-                            .join("+");
-                        let spearman = match ix.members.as_slice() {
-                            [i] => input_ranks[*i]
-                                .as_ref()
-                                .and_then(|r| sensitivity::spearman_ranked(r, &meas_ranks[m])),
-                            _ => None,
-                        };
-                        let lpu_share = (!findings.measurands[m].budget.is_empty()).then(|| {
-                            findings.measurands[m]
-                                .budget
-                                .iter()
-                                .filter(|b| ix.members.contains(&b.input))
-                                .map(|b| b.share)
-                                .sum()
-                        });
-                        let interaction = ix.total - ix.first_order > sensitivity::INTERACTION_GAP;
-                        SensitivityRow {
-                            name,
-                            indices: ix,
-                            spearman,
-                            lpu_share,
-                            interaction,
-                        }
-                    })
-                    .collect();
+                            .filter(|b| ix.members.contains(&b.input))
+                            .map(|b| b.share)
+                            .sum()
+                    });
+                    let interaction = ix.total - ix.first_order > sensitivity::INTERACTION_GAP;
+                    SensitivityRow {
+                        name,
+                        indices: ix,
+                        spearman,
+                        lpu_share,
+                        interaction,
+                    }
+                })
+                .collect();
             rows.sort_by(|a, b| b.indices.total.total_cmp(&a.indices.total));
             rows
         })
