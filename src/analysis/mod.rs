@@ -149,7 +149,7 @@ pub(crate) struct SensitivityMethod {
     pub(crate) factors: usize,
     /// "random" or "sobol".
     pub(crate) sampler: &'static str,
-    /// Bootstrap replicates.
+    /// Bootstrap replicates (pseudo-random designs) or independent scramblings (Sobol designs).
     pub(crate) replicates: usize,
     /// Confidence level of the intervals.
     pub(crate) confidence: f64,
@@ -418,7 +418,7 @@ pub(crate) fn findings_from(
 pub(crate) fn sensitivity_finding(
     study: &Study,
     findings: &Findings,
-    runs: &crate::engine::sensitivity::DesignRuns,
+    runs: &[crate::engine::sensitivity::DesignRuns],
     samples: &Samples,
     method: SensitivityMethod,
     seed: u64,
@@ -442,7 +442,10 @@ pub(crate) fn sensitivity_finding(
     };
     let meas_cols: Vec<&[f64]> = samples.measurands.iter().map(Vec::as_slice).collect();
     let meas_ranks = sensitivity::rank_columns(&meas_cols);
-    let all = sensitivity::indices(runs, method.confidence, method.replicates, seed);
+    let all = match runs {
+        [one] => sensitivity::indices(one, method.confidence, method.replicates, seed),
+        several => sensitivity::scrambled_indices(several, method.confidence),
+    };
     let measurands = all
         .into_iter()
         .enumerate()

@@ -210,6 +210,48 @@ pub fn indices(
         .collect()
 }
 
+/// Independent scramblings of a quasi-random design for a randomised quasi-Monte Carlo interval.
+pub const SCRAMBLINGS: usize = 16;
+
+/// Indices of every factor for every measurand from `runs`, independent scramblings of one
+/// quasi-random design: the mean of their estimates and a Student t interval at `confidence`
+/// with R - 1 degrees of freedom (randomised quasi-Monte Carlo: Owen 1997; L'Ecuyer and Lemieux,
+/// Modeling Uncertainty, 2002, 10.3). The rows of one scrambled design are not independent, so
+/// resampling them (the bootstrap) would understate the spread; independent scramblings are.
+pub fn scrambled_indices(runs: &[DesignRuns], confidence: f64) -> Vec<Vec<FactorIndices>> {
+    let r = runs.len();
+    let t = crate::dist::student_t_quantile(0.5 * (1.0 + confidence), (r - 1) as f64);
+    let interval = |xs: &[f64]| {
+        let mean = xs.iter().sum::<f64>() / r as f64;
+        let var = xs.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (r - 1) as f64;
+        let half = t * (var / r as f64).sqrt();
+        (mean, (mean - half, mean + half))
+    };
+    (0..runs[0].f_a.len())
+        .map(|m| {
+            let each: Vec<Vec<(f64, f64)>> = runs
+                .iter()
+                .map(|d| estimate(&d.f_a[m], &d.f_b[m], &d.f_ab[m], None))
+                .collect();
+            (0..runs[0].factors.len())
+                .map(|f| {
+                    let first: Vec<f64> = each.iter().map(|e| e[f].0).collect();
+                    let total: Vec<f64> = each.iter().map(|e| e[f].1).collect();
+                    let (s, si) = interval(&first);
+                    let (st, sti) = interval(&total);
+                    FactorIndices {
+                        members: runs[0].factors[f].clone(),
+                        first_order: s,
+                        first_order_interval: si,
+                        total: st,
+                        total_interval: sti,
+                    }
+                })
+                .collect()
+        })
+        .collect()
+}
+
 /// Ranks 1..n of a column, ties sharing their mean rank.
 fn ranks(x: &[f64]) -> Vec<f64> {
     let mut order: Vec<u32> = (0..x.len() as u32).collect();

@@ -424,11 +424,15 @@ fn sensitivity_section(out: &mut String, f: &Findings) {
     let m = &s.method;
     let p = percent(m.confidence);
     out.push_str(&format!(
-        "\nSensitivity ranking: Sobol indices, first order by Saltelli et al. (2010), total by Jansen (1999); N = {} base rows, {} model runs, {} base sample; {p} bootstrap intervals ({} resamples)\n",
+        "\nSensitivity ranking: Sobol indices, first order by Saltelli et al. (2010), total by Jansen (1999); N = {} base rows, {} model runs, {} base sample; {p} {}\n",
         grouped(m.base_rows as u64),
         grouped((m.base_rows * (m.factors + 2)) as u64),
         if m.sampler == "sobol" { "quasi-random (scrambled Sobol)" } else { "pseudo-random" },
-        m.replicates
+        if m.sampler == "sobol" {
+            format!("t intervals over {} independent scramblings of N/{} rows each (randomised quasi-Monte Carlo)", m.replicates, m.replicates)
+        } else {
+            format!("bootstrap intervals ({} resamples)", m.replicates)
+        }
     ));
     if m.grouped {
         out.push_str("Correlated inputs break the independence the indices assume: each correlated group is ranked as one factor (grouped indices).\n");

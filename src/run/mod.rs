@@ -139,6 +139,18 @@ pub(crate) fn check_rank(study: &Study, rank: &RankOptions) -> Result<(), Error>
         ));
     }
     if rank.sampler == BaseSampler::Sobol {
+        let least = 64 * analysis::sensitivity::SCRAMBLINGS;
+        if rank.base_rows < least {
+            return Err(bad(
+                format!(
+                    "the quasi-random sampler makes {} independent scramblings of N / {} rows each, so it needs at least {least} base rows (got {})",
+                    analysis::sensitivity::SCRAMBLINGS,
+                    analysis::sensitivity::SCRAMBLINGS,
+                    rank.base_rows
+                ),
+                "--sampler sobol --base-trials 32768",
+            ));
+        }
         if rank.base_rows > MAX_SOBOL_ROWS {
             return Err(bad(
                 format!(
@@ -193,17 +205,40 @@ pub(crate) fn rank_study(
             "the ranking needs the input columns of the ordinary run in memory".into(),
         ))
     })?;
-    let runs = sensitivity::design_runs(study, rank.base_rows, rank.sampler, study.seed)?;
+    // A pseudo-random design: one, with bootstrap intervals. A quasi-random one: independent
+    // scramblings of N / R rows each (the same model runs in all), each from its own seed.
+    let runs: Vec<sensitivity::DesignRuns> = match rank.sampler {
+        BaseSampler::Random => vec![sensitivity::design_runs(
+            study,
+            rank.base_rows,
+            rank.sampler,
+            study.seed,
+        )?],
+        BaseSampler::Sobol => (0..analysis::sensitivity::SCRAMBLINGS as u64)
+            .map(|r| {
+                let seed = study.seed ^ (r + 1).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+                sensitivity::design_runs(
+                    study,
+                    rank.base_rows / analysis::sensitivity::SCRAMBLINGS,
+                    rank.sampler,
+                    seed,
+                )
+            })
+            .collect::<Result<_, _>>()?,
+    };
     let method = SensitivityMethod {
         base_rows: rank.base_rows,
-        factors: runs.factors.len(),
+        factors: runs[0].factors.len(),
         sampler: match rank.sampler {
             BaseSampler::Random => "random",
             BaseSampler::Sobol => "sobol",
         },
-        replicates: rank.replicates,
+        replicates: match rank.sampler {
+            BaseSampler::Random => rank.replicates,
+            BaseSampler::Sobol => analysis::sensitivity::SCRAMBLINGS,
+        },
         confidence: study.coverage,
-        grouped: runs.factors.iter().any(|f| f.len() > 1),
+        grouped: runs[0].factors.iter().any(|f| f.len() > 1),
     };
     findings.sensitivity = Some(analysis::sensitivity_finding(
         study, &findings, &runs, &samples, method, study.seed,

@@ -209,7 +209,9 @@ struct SensitivityMethodJson {
     factors: usize,
     model_runs: usize,
     sampler: &'static str,
-    bootstrap_replicates: usize,
+    bootstrap_replicates: Option<usize>,
+    scramblings: Option<usize>,
+    intervals: &'static str,
     confidence: f64,
     grouped_correlated_inputs: bool,
 }
@@ -422,7 +424,13 @@ pub(crate) fn run_json(f: &Findings) -> RunJson<'_> {
                 factors: m.factors,
                 model_runs: m.base_rows * (m.factors + 2),
                 sampler: m.sampler,
-                bootstrap_replicates: m.replicates,
+                bootstrap_replicates: (m.sampler != "sobol").then_some(m.replicates),
+                scramblings: (m.sampler == "sobol").then_some(m.replicates),
+                intervals: if m.sampler == "sobol" {
+                    "Student t over independent scramblings (randomised quasi-Monte Carlo)"
+                } else {
+                    "percentile bootstrap over the rows"
+                },
                 confidence: m.confidence,
                 grouped_correlated_inputs: m.grouped,
             }
@@ -462,6 +470,8 @@ const NULLABLE: &[&str] = &[
     "noise_force_resolution",
     "averaging_time_for_target",
     "needed",
+    "bootstrap_replicates",
+    "scramblings",
     "averaging_time",
     "time_for_target",
     "measured",
