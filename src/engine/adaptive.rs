@@ -6,7 +6,9 @@
 //! of each statistic, s = sqrt(sum (z_r - mean z)^2 / (h (h - 1))), is compared with the
 //! numerical tolerance delta of u(y) computed from all h M values (JCGM 101 7.9.2); the run stops
 //! when 2 s <= delta for the estimate, the standard uncertainty and both ends of both coverage
-//! intervals. The results are then computed from all h M values. Batches may be computed several
+//! intervals, s being the standard deviation of the value the report gives, pooled from all
+//! h M values ([`sd_of_pooled`]: for the shortest interval's ends, which converge more slowly,
+//! larger than that of the batch average). The results are then computed from all h M values. Batches may be computed several
 //! at a time, but the rule is applied batch by batch in order and batches past the stop are
 //! discarded, so the outcome depends on the seed only.
 
@@ -54,6 +56,24 @@ pub fn sd_of_average(values: &[f64]) -> f64 {
     (values.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (h * (h - 1.0))).sqrt()
 }
 
+/// Standard deviation of a statistic computed from all h M values pooled (what the report
+/// gives), from its h batch values. For the estimate, u and the ends of the probabilistically
+/// symmetric interval (means and quantiles, which converge like 1/sqrt(M)) it is the standard
+/// deviation of their average (JCGM 101 7.9.4 g). The ends of the shortest interval are those of
+/// the shortest window holding a fraction p of the values, an estimator that converges only like
+/// M^(-1/3) (cube-root asymptotics of the shorth: Kim and Pollard, Ann. Statist. 18, 191, 1990),
+/// so pooling h batches divides its spread by h^(1/3), not sqrt h: s_batch h^(-1/3) =
+/// s_average h^(1/6). Watching the average instead let the pooled shortest-interval ends miss
+/// delta in a third of repeated runs.
+pub fn sd_of_pooled(values: &[f64], cube_root: bool) -> f64 {
+    let s = sd_of_average(values);
+    if cube_root {
+        s * (values.len() as f64).powf(1.0 / 6.0)
+    } else {
+        s
+    }
+}
+
 /// Whether the stopping rule holds for these batches, with the tolerances used: for each
 /// measurand, delta from `u_all` (SI) written in the reporting unit (`factors`).
 pub(crate) fn stopping_rule_met(
@@ -70,9 +90,15 @@ pub(crate) fn stopping_rule_met(
         if batches.len() < 2 {
             continue;
         }
+        // JCGM 101 7.9.4's factor 2 for the values that converge like 1/sqrt(M); for the
+        // shortest interval's ends, whose s is scaled from the batches by a rate rather than
+        // measured, the 97.5 % Student t factor with h - 1 degrees of freedom (s comes from h
+        // batch values), which is 2.09 at h = 20.
+        let t = crate::dist::student_t_quantile(0.975, (batches.len() - 1) as f64);
         for stat in 0..6 {
             let values: Vec<f64> = batches.iter().map(|b| b[m][stat]).collect();
-            if 2.0 * sd_of_average(&values) > delta {
+            let factor = if stat >= 4 { t } else { 2.0 };
+            if factor * sd_of_pooled(&values, stat >= 4) > delta {
                 met = false;
             }
         }
