@@ -263,3 +263,33 @@ fn run_json_plan() -> Value {
     );
     serde_json::from_slice(&out.stdout).unwrap()
 }
+
+// A correlation that does not exist (a measurand that does not vary) is null in JSON and "-" in
+// the text, never a number (common practice: Pearson's r needs two variances).
+#[test]
+fn undefined_correlation_is_not_a_number() {
+    let dir = scratch("corr-const");
+    let file = dir.join("c.toml");
+    std::fs::write(
+        &file,
+        "title = \"Constant and varying\"\ntrials = 2000\nlaser = false\n[inputs.x]\n\
+         dist = \"normal\"\nmean = 1\nsd = 0.1\n[inputs.k]\nvalue = 3\n\
+         [measurands.y]\nformula = \"2 * x\"\n[measurands.z]\nformula = \"k * 2\"\n",
+    )
+    .unwrap();
+    let r = run_json(file.to_str().unwrap(), &["-q"]);
+    assert!(
+        r["correlation"]["matrix"][0][1].is_null(),
+        "{}",
+        r["correlation"]
+    );
+    assert!(r["correlation"]["matrix"][1][0].is_null());
+    let out = radforce()
+        .args(["run", file.to_str().unwrap(), "-q"])
+        .output()
+        .unwrap();
+    let text = String::from_utf8(out.stdout).unwrap();
+    let section = text.split("correlation of the measurands").nth(1).unwrap();
+    let row = section.lines().find(|l| l.starts_with("y ")).unwrap();
+    assert!(row.contains("- / -"), "{row}");
+}

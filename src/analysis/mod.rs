@@ -105,8 +105,8 @@ pub(crate) struct InputCorrelationFinding {
 pub(crate) struct MeasurandCorrelation {
     /// Measurand names, the order of rows and columns.
     pub(crate) names: Vec<String>,
-    /// From the trials.
-    pub(crate) monte_carlo: Vec<Vec<f64>>,
+    /// From the trials (`None` where undefined: a measurand that does not vary).
+    pub(crate) monte_carlo: Vec<Vec<Option<f64>>>,
     /// From the law of propagation (`None` where a measurand has no LPU or u_c = 0).
     pub(crate) lpu: Vec<Vec<Option<f64>>>,
 }
@@ -233,11 +233,11 @@ fn input_finding(q: &InputQuantity) -> InputFinding {
 }
 
 /// Pearson correlation matrix of `n` measurands from their merged joint moments (in the order of
-/// `engine::measurand_pair_order`).
-pub(crate) fn correlation_from_pairs(n: usize, pairs: &[CoMoments]) -> Vec<Vec<f64>> {
-    let mut out = vec![vec![1.0; n]; n];
+/// `engine::measurand_pair_order`); `None` where it is undefined (a measurand that does not vary).
+pub(crate) fn correlation_from_pairs(n: usize, pairs: &[CoMoments]) -> Vec<Vec<Option<f64>>> {
+    let mut out = vec![vec![Some(1.0); n]; n];
     for ((a, b), c) in engine::measurand_pair_order(n).into_iter().zip(pairs) {
-        let r = c.correlation().unwrap_or(0.0);
+        let r = c.correlation();
         out[a][b] = r;
         out[b][a] = r;
     }
@@ -247,10 +247,10 @@ pub(crate) fn correlation_from_pairs(n: usize, pairs: &[CoMoments]) -> Vec<Vec<f
 /// Pearson correlation matrix of columns, from per-chunk joint moments merged in chunk order
 /// (the same numbers as [`correlation_from_pairs`] on the engine's pairs).
 #[cfg(test)]
-pub(crate) fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
+pub(crate) fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<Option<f64>>> {
     use rayon::prelude::*;
     let n = columns.len();
-    let mut out = vec![vec![1.0; n]; n];
+    let mut out = vec![vec![Some(1.0); n]; n];
     for a in 0..n {
         for b in a + 1..n {
             let parts: Vec<CoMoments> = columns[a]
@@ -259,7 +259,7 @@ pub(crate) fn sample_correlation(columns: &[Vec<f64>]) -> Vec<Vec<f64>> {
                 .map(|(x, y)| CoMoments::of(x, y))
                 .collect();
             let total = parts.iter().fold(CoMoments::EMPTY, |acc, p| acc.merge(p));
-            let r = total.correlation().unwrap_or(0.0);
+            let r = total.correlation();
             out[a][b] = r;
             out[b][a] = r;
         }

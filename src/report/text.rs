@@ -411,7 +411,8 @@ fn correlation_section(out: &mut String, f: &Findings) {
         let mut row = vec![name.clone()];
         for b in 0..c.names.len() {
             let l = c.lpu[a][b].map_or("-".to_string(), |x| format!("{x:.3}"));
-            row.push(format!("{:.3} / {l}", c.monte_carlo[a][b]));
+            let m = c.monte_carlo[a][b].map_or("-".to_string(), |x| format!("{x:.3}"));
+            row.push(format!("{m} / {l}"));
         }
         t.row(row);
     }

@@ -170,7 +170,7 @@ struct AdaptiveJson {
 #[derive(Serialize)]
 struct CorrelationJson<'a> {
     names: &'a [String],
-    matrix: &'a [Vec<f64>],
+    matrix: &'a [Vec<Option<f64>>],
     lpu_matrix: &'a [Vec<Option<f64>>],
 }
 
@@ -462,6 +462,7 @@ const NULLABLE: &[&str] = &[
     "higher_order_standard_uncertainty",
     "effective_dof",
     "lpu_matrix",
+    "matrix",
     "achieved",
     "adaptive",
     "correlation",
