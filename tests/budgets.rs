@@ -164,8 +164,8 @@ fn text_budget_groups_rows_under_subtotals() {
     assert!(beam.contains("nil (1st order)"), "{beam}");
 }
 
-// The Markdown report links its figures relative to its own folder, so the links resolve from
-// there whatever the working folder was (checked by opening every linked file from the
+// The Markdown report links its figures relative to its own folder (common practice for
+// relative links), so the links resolve from there whatever the working folder was (checked by opening every linked file from the
 // report's folder).
 #[test]
 fn markdown_links_resolve_from_the_report_folder() {
@@ -214,7 +214,7 @@ fn markdown_links_resolve_from_the_report_folder() {
 }
 
 // compare numbers the designs (D1, D2 in file order) with a key of their titles, and its tables
-// stay narrow enough for a terminal (the issue measured 226 characters).
+// stay narrow enough for a terminal (common practice: 120 columns; one table was 226 wide).
 #[test]
 fn compare_tables_fit_a_terminal() {
     let out = radforce()

@@ -29,7 +29,8 @@ fn page(args: &[&str], name: &str) -> Html {
     doc
 }
 
-/// No script, no external resource: nothing to fetch and nothing to run.
+/// No script, no external resource: nothing to fetch and nothing to run (common practice for a
+/// self-contained document).
 fn self_contained(doc: &Html) {
     assert!(select(doc, "script").is_empty(), "a script");
     assert!(select(doc, "link, iframe, object, embed").is_empty());

@@ -5,6 +5,10 @@ use super::lpu::MeasurandLpu;
 use crate::model::Subsystem;
 use crate::scenario::Study;
 
+/// Below this share of u_c^2 an input has no first-order effect: budgets, figures and plans say
+/// so instead of printing a meaningless number (common practice).
+pub(crate) const NO_EFFECT_SHARE: f64 = 1e-6;
+
 /// One line of a budget (SI).
 #[derive(Clone, Debug, PartialEq)]
 pub(crate) struct BudgetRow {

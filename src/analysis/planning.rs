@@ -146,7 +146,7 @@ pub(crate) fn propose(
                 current: u,
                 needed: needed.filter(|n| c * n >= least),
                 floor: spec.express_standard(rest.max(0.0).sqrt(), y, k),
-                no_effect: a * a < 1e-6 * uc2,
+                no_effect: a * a < super::budget::NO_EFFECT_SHARE * uc2,
             }
         })
         .collect();

@@ -260,7 +260,7 @@ impl MarkdownReport {
                         q.dimension,
                     );
                     let shown = pretty_unit(&shown);
-                    let no_effect = b.share < 1e-6;
+                    let no_effect = b.share < crate::analysis::budget::NO_EFFECT_SHARE;
                     rows.push(vec![
                         format!("&nbsp;&nbsp;{}", input_words(q)),
                         q.distribution.clone(),

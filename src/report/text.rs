@@ -7,6 +7,7 @@ use super::format::{
 };
 use super::table::TextTable;
 use super::{Context, Exporter, Report};
+use crate::analysis::budget::NO_EFFECT_SHARE as NO_EFFECT;
 use crate::analysis::{Findings, MeasurandFinding};
 
 /// Human-readable tables of the results, with GUM rounding and readable units.
@@ -319,8 +320,6 @@ fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
     }
 }
 
-/// Below this share of u^2 an input's effect is nil for the purpose of a budget.
-const NO_EFFECT: f64 = 1e-6;
 
 /// "1 input", "3 inputs".
 fn inputs_count(n: usize) -> String {
@@ -349,54 +348,52 @@ fn budget_row(
     unit: &crate::units::DisplayUnit,
 ) {
     let k = unit.factor;
-    {
-        let q = &f.inputs[r.input];
-        let (est, u, shown) = input_pair(
-            r.estimate,
-            Some(r.standard_uncertainty),
-            &q.shown_unit,
-            q.dimension,
-        );
-        // c in (measurand unit as shown) per (input unit as shown).
-        let shown_factor = if shown == q.shown_unit.symbol {
-            q.shown_unit.factor
+    let q = &f.inputs[r.input];
+    let (est, u, shown) = input_pair(
+        r.estimate,
+        Some(r.standard_uncertainty),
+        &q.shown_unit,
+        q.dimension,
+    );
+    // c in (measurand unit as shown) per (input unit as shown).
+    let shown_factor = if shown == q.shown_unit.symbol {
+        q.shown_unit.factor
+    } else {
+        crate::units::parse_unit(&shown).map_or(1.0, |x| x.factor)
+    };
+    let c = r.sensitivity * shown_factor / k;
+    let c_unit = match (unit.symbol.as_str(), shown.as_str()) {
+        (a, "") => a.to_string(),
+        ("", b) if b.contains(' ') || b.contains('/') => format!("1/({b})"),
+        ("", b) => format!("1/{b}"),
+        (a, b) if b.contains(' ') || b.contains('/') => format!("{a}/({b})"),
+        (a, b) => format!("{a}/{b}"),
+    };
+    let no_effect = r.share < NO_EFFECT;
+    t.row(vec![
+        format!("  {}", q.name),
+        q.distribution.clone(),
+        est,
+        u,
+        shown,
+        if no_effect {
+            "nil (1st order)".into()
         } else {
-            crate::units::parse_unit(&shown).map_or(1.0, |x| x.factor)
-        };
-        let c = r.sensitivity * shown_factor / k;
-        let c_unit = match (unit.symbol.as_str(), shown.as_str()) {
-            (a, "") => a.to_string(),
-            ("", b) if b.contains(' ') || b.contains('/') => format!("1/({b})"),
-            ("", b) => format!("1/{b}"),
-            (a, b) if b.contains(' ') || b.contains('/') => format!("{a}/({b})"),
-            (a, b) => format!("{a}/{b}"),
-        };
-        let no_effect = r.share < NO_EFFECT;
-        t.row(vec![
-            format!("  {}", q.name),
-            q.distribution.clone(),
-            est,
-            u,
-            shown,
-            if no_effect {
-                "nil (1st order)".into()
-            } else {
-                format!("{} {c_unit}", significant(c, 4))
-            },
-            if no_effect {
-                "-".into()
-            } else {
-                significant(r.contribution / k, 2)
-            },
-            if no_effect {
-                "< 1e-4 %".into()
-            } else {
-                format!("{:.1} %", 100.0 * r.share)
-            },
-            share_bar(r.share),
-            r.dof.map_or(String::new(), |d| format!("{d}")),
-        ]);
-    }
+            format!("{} {c_unit}", significant(c, 4))
+        },
+        if no_effect {
+            "-".into()
+        } else {
+            significant(r.contribution / k, 2)
+        },
+        if no_effect {
+            "< 1e-4 %".into()
+        } else {
+            format!("{:.1} %", 100.0 * r.share)
+        },
+        share_bar(r.share),
+        r.dof.map_or(String::new(), |d| format!("{d}")),
+    ]);
 }
 
 /// Correlation of several measurands (JCGM 102), from the trials and from the LPU.

@@ -91,7 +91,7 @@ pub enum PowerLaw {
 /// Table 5 (after Howe, Allan and Barnes 1981):
 /// white FM ((3 (N - 1) / (2 m)) - 2 (N - 2) / N) 4 m^2 / (4 m^2 + 5);
 /// flicker FM 2 (N - 2)^2 / (2.3 N - 4.9) at m = 1, 5 N^2 / (4 m (N + 3 m)) above
-/// (the square at m = 1 from memory; a transcription in allantools reads 2 (N - 2) / (...));
+/// (the square at m = 1 from memory; the allantools implementation reads 2 (N - 2) / (...));
 /// random-walk FM ((N - 2) / m) ((N - 1)^2 - 3 m (N - 1) + 4 m^2) / (N - 3)^2.
 /// At least 1.
 pub fn equivalent_dof(noise: PowerLaw, phase_points: usize, m: usize) -> f64 {

@@ -93,7 +93,7 @@ where
             [(0.0, y0), (100.0 * share, y1)],
             style,
         )))?;
-        let percent = if *share < 1e-6 {
+        let percent = if *share < crate::analysis::budget::NO_EFFECT_SHARE {
             "nil (1st order)".to_string()
         } else if *share < 5e-4 {
             "< 0.05 %".to_string()

@@ -43,7 +43,7 @@ where
         .map(|(i, r)| format!("D{} (rank {})", i + 1, r.rank))
         .collect();
     let key_height = key_height(c.rows.len());
-    let (width, height) = area.dim_in_pixel();
+    let (_, height) = area.dim_in_pixel();
     let (area, key) = area.split_vertically(height.saturating_sub(key_height));
     for (i, r) in c.rows.iter().enumerate() {
         let title: String = if r.name.chars().count() > 110 {
@@ -61,7 +61,6 @@ where
             ("sans-serif", 13).into_font().color(&BLACK),
         ))?;
     }
-    let _ = width;
     let area = &area;
     let segments = n.max(2);
     let first = &c.rows[0];
