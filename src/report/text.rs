@@ -320,7 +320,6 @@ fn budget_section(out: &mut String, f: &Findings, m: &MeasurandFinding) {
     }
 }
 
-
 /// "1 input", "3 inputs".
 fn inputs_count(n: usize) -> String {
     if n == 1 {
