@@ -326,10 +326,14 @@ fn markdown_reports() {
         .unwrap();
     let md = String::from_utf8(out.stdout).unwrap();
     assert!(md.starts_with("# Calibration: 20 W"));
+    // The demo labels its measurand and inputs: the prose uses the labels.
     assert!(
-        md.contains("a beam of about 20.01 W is measured with a relative expanded uncertainty of")
+        md.contains(
+            "the laser power is estimated as 20.01 W with a relative expanded uncertainty of"
+        ),
+        "{md}"
     );
-    assert!(md.contains("of the variance comes from stray_force"));
+    assert!(md.contains("of the variance comes from stray force (gas, patch potentials)"));
     assert!(md.contains("| measurand |"));
     assert!(md.contains("JCGM 101:2008") && md.contains("JCGM 100:2008"));
     assert!(md.contains("IEC 60825-1") && md.contains("ISO/IEC 17025"));

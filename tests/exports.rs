@@ -34,8 +34,9 @@ fn svg_figures_parse_and_carry_their_labels() {
         .success();
     let d = std::fs::read_to_string(dir.join("distribution-power.svg")).unwrap();
     let t = texts(&d);
+    // The measurand's label from the scenario ("laser power"), not its name.
     for label in [
-        "power / W",
+        "laser power / W",
         "probability density / (1/W)",
         "histogram of the trials",
         "kernel density",
@@ -52,7 +53,18 @@ fn svg_figures_parse_and_carry_their_labels() {
     let c = texts(&std::fs::read_to_string(dir.join("cdf-force.svg")).unwrap());
     assert!(c.iter().any(|x| x == "force / nN") && c.iter().any(|x| x == "probability"));
     let i = texts(&std::fs::read_to_string(dir.join("input-incidence.svg")).unwrap());
-    assert!(i.iter().any(|x| x == "incidence / deg") && i.iter().any(|x| x == "stated density"));
+    // Units as print writes them: ° for deg, superscripts for powers (ISO 80000-1 7.1 for the
+    // "quantity / unit" axis title).
+    assert!(
+        i.iter().any(|x| x == "incidence / \u{b0}") && i.iter().any(|x| x == "stated density"),
+        "{i:?}"
+    );
+    let moi = texts(&std::fs::read_to_string(dir.join("input-moment_of_inertia.svg")).unwrap());
+    assert!(
+        moi.iter()
+            .any(|x| x == "moment of inertia of the bar / kg m\u{b2}"),
+        "{moi:?}"
+    );
     for entry in std::fs::read_dir(&dir).unwrap() {
         let p = entry.unwrap().path();
         roxmltree::Document::parse(&std::fs::read_to_string(&p).unwrap())

@@ -289,6 +289,18 @@ pub(crate) struct ComparisonRow {
     pub(crate) findings: Box<Findings>,
 }
 
+impl ComparisonRow {
+    /// What a report calls an input of this design: its `label` when given, else its name.
+    pub(crate) fn input_called<'a>(&'a self, name: &'a str) -> &'a str {
+        self.findings
+            .inputs
+            .iter()
+            .find(|q| q.name == name)
+            .and_then(|q| q.label.as_deref())
+            .unwrap_or(name)
+    }
+}
+
 /// Designs side by side.
 #[derive(Clone, Debug)]
 pub struct Comparison {

@@ -80,49 +80,86 @@ pub(crate) fn estimate(
         .collect()
 }
 
-/// [`estimate`] over a resample given as the number of times `counts[j]` (a whole number, as f64) each row was drawn
-/// (summing to N): the same estimator, its sums written as weighted sums over the rows in order.
-/// With the values shifted by `shift` (the full sample's pooled mean, which leaves every index
-/// unchanged and keeps the sums of squares free of cancellation), a = f(A) - shift,
-/// b = f(B) - shift, d_i = f(A_B^(i)) - f(A) and W = 2 N:
+/// One measurand's design outputs, row by row: `[f(A), f(B), f(A_B^(1)), ..., f(A_B^(k))]`,
+/// each less the pooled mean `shift` (centring keeps the sums of squares accurate). A bootstrap
+/// replicate reads each row once for all k factors, a third of the memory traffic of reading
+/// k + 2 columns k times.
+pub(crate) struct DesignRows {
+    k: usize,
+    values: Vec<f64>,
+}
+
+impl DesignRows {
+    pub(crate) fn new(fa: &[f64], fb: &[f64], fab: &[Vec<f64>], shift: f64) -> Self {
+        let k = fab.len();
+        let mut values = Vec::with_capacity(fa.len() * (k + 2));
+        for j in 0..fa.len() {
+            values.push(fa[j] - shift);
+            values.push(fb[j] - shift);
+            values.extend(fab.iter().map(|f| f[j] - shift));
+        }
+        DesignRows { k, values }
+    }
+}
+
+/// Bootstrap replicates computed together in one pass over the rows.
+pub(crate) const LANES: usize = 4;
+
+/// [`estimate`] over [`LANES`] resamples at once, each given as the number of times
+/// `counts[j][l]` (a whole number, as f64) row j was drawn (summing to N): the same estimator,
+/// its sums written as weighted sums over the rows in order. With the values shifted by the full
+/// sample's pooled mean (which leaves every index unchanged and keeps the sums of squares free
+/// of cancellation), a = f(A) - shift, b = f(B) - shift, d_i = f(A_B^(i)) - f(A) and W = 2 N:
 ///   mean = sum w (a + b) / W,  V = (sum w (a^2 + b^2) - W mean^2) / (W - 1),
 ///   V_i = (sum w b d_i - mean sum w d_i) / N,  V_Ti = sum w d_i^2 / (2 N).
-pub(crate) fn weighted_estimate(
-    fa: &[f64],
-    fb: &[f64],
-    fab: &[Vec<f64>],
-    counts: &[f64],
-    shift: f64,
-) -> Vec<(f64, f64)> {
-    // Branch-free sums (a row drawn 0 times adds 0), which the compiler vectorises.
-    let n: f64 = counts.iter().sum();
-    let (mut s1, mut s2) = (0.0, 0.0);
-    for ((&w, &a), &b) in counts.iter().zip(fa).zip(fb) {
-        let (a, b) = (a - shift, b - shift);
-        s1 += w * (a + b);
-        s2 += w * (a * a + b * b);
+/// Each lane's sums run in row order whatever the lanes beside it, so a replicate's result does
+/// not depend on how replicates are grouped. Returns, per lane, (S_i, ST_i) for every factor.
+pub(crate) fn weighted_estimates(
+    rows: &DesignRows,
+    counts: &[[f64; LANES]],
+) -> [Vec<(f64, f64)>; LANES] {
+    let k = rows.k;
+    let mut n = [0.0; LANES];
+    let (mut s1, mut s2) = ([0.0; LANES], [0.0; LANES]);
+    // Per factor: the sums of w b d, w d and w d^2, one lane per replicate (fixed-width arrays
+    // the compiler turns into vector instructions).
+    let mut acc = vec![[[0.0f64; LANES]; 3]; k];
+    for (row, w) in rows.values.chunks_exact(k + 2).zip(counts) {
+        let (a, b) = (row[0], row[1]);
+        let (t1, t2) = (a + b, a * a + b * b);
+        let mut wb = [0.0; LANES];
+        for l in 0..LANES {
+            n[l] += w[l];
+            s1[l] += w[l] * t1;
+            s2[l] += w[l] * t2;
+            wb[l] = w[l] * b;
+        }
+        for (x, [bd, dd, d2]) in row[2..].iter().zip(acc.iter_mut()) {
+            let d = x - a;
+            for l in 0..LANES {
+                let wd = w[l] * d;
+                bd[l] += wb[l] * d;
+                dd[l] += wd;
+                d2[l] += wd * d;
+            }
+        }
     }
-    let m = 2.0 * n;
-    let mean = s1 / m;
-    let var = (s2 - m * mean * mean) / (m - 1.0);
-    fab.iter()
-        .map(|f| {
-            let (mut bd, mut dd, mut d2) = (0.0, 0.0, 0.0);
-            for (((&w, &a), &b), &x) in counts.iter().zip(fa).zip(fb).zip(f) {
-                let d = x - a;
-                bd += w * (b - shift) * d;
-                dd += w * d;
-                d2 += w * d * d;
-            }
-            let vi = (bd - mean * dd) / n;
-            let vt = d2 / (2.0 * n);
-            if var > 0.0 {
-                (vi / var, vt / var)
-            } else {
-                (0.0, 0.0)
-            }
-        })
-        .collect()
+    std::array::from_fn(|l| {
+        let m = 2.0 * n[l];
+        let mean = s1[l] / m;
+        let var = (s2[l] - m * mean * mean) / (m - 1.0);
+        acc.iter()
+            .map(|[bd, dd, d2]| {
+                let vi = (bd[l] - mean * dd[l]) / n[l];
+                let vt = d2[l] / (2.0 * n[l]);
+                if var > 0.0 {
+                    (vi / var, vt / var)
+                } else {
+                    (0.0, 0.0)
+                }
+            })
+            .collect()
+    })
 }
 
 fn percentile(sorted: &[f64], p: f64) -> f64 {
@@ -145,40 +182,46 @@ pub fn indices(
 ) -> Vec<Vec<FactorIndices>> {
     let n = runs.rows;
     let measurands = runs.f_a.len();
-    let shifts: Vec<f64> = (0..measurands)
-        .map(|m| runs.f_a[m].iter().chain(runs.f_b[m].iter()).sum::<f64>() / (2.0 * n as f64))
+    let rows: Vec<DesignRows> = (0..measurands)
+        .into_par_iter()
+        .map(|m| {
+            let shift =
+                runs.f_a[m].iter().chain(runs.f_b[m].iter()).sum::<f64>() / (2.0 * n as f64);
+            DesignRows::new(&runs.f_a[m], &runs.f_b[m], &runs.f_ab[m], shift)
+        })
         .collect();
-    // boot[b][m][factor]
-    let boot: Vec<Vec<Vec<(f64, f64)>>> = (0..replicates)
+    // Replicates in groups of LANES, each group one pass over the rows; boot[b][m][factor].
+    let groups = replicates.div_ceil(LANES);
+    let boot: Vec<Vec<Vec<(f64, f64)>>> = (0..groups)
         .into_par_iter()
         .map_init(
-            || vec![0.0f64; n],
-            |counts, b| {
-                let mut rng = stream::chunk_stream(seed, 0);
-                rng.long_jump();
-                rng.long_jump();
-                rng.jump_ce(b as u64, 128);
-                counts.iter_mut().for_each(|c| *c = 0.0);
-                // A row index uniform on 0..n from the high half of r n (Lemire, ACM TOMACS
-                // 29, 2019: no division; its bias, below n / 2^64, is nil here).
-                for _ in 0..n {
-                    let j = ((rng.next_u64() as u128 * n as u128) >> 64) as usize;
-                    counts[j] += 1.0;
+            || vec![[0.0f64; LANES]; n],
+            |counts, g| {
+                counts.iter_mut().for_each(|c| *c = [0.0; LANES]);
+                // `l` picks a lane of every row's counts, not an element of one slice.
+                #[allow(clippy::needless_range_loop)]
+                for l in 0..LANES {
+                    let mut rng = stream::chunk_stream(seed, 0);
+                    rng.long_jump();
+                    rng.long_jump();
+                    rng.jump_ce((g * LANES + l) as u64, 128);
+                    // A row index uniform on 0..n from the high half of r n (Lemire, ACM
+                    // TOMACS 29, 2019: no division; its bias, below n / 2^64, is nil here).
+                    for _ in 0..n {
+                        let j = ((rng.next_u64() as u128 * n as u128) >> 64) as usize;
+                        counts[j][l] += 1.0;
+                    }
                 }
-                (0..measurands)
-                    .map(|m| {
-                        weighted_estimate(
-                            &runs.f_a[m],
-                            &runs.f_b[m],
-                            &runs.f_ab[m],
-                            counts,
-                            shifts[m],
-                        )
-                    })
-                    .collect()
+                let per_measurand: Vec<[Vec<(f64, f64)>; LANES]> =
+                    rows.iter().map(|r| weighted_estimates(r, counts)).collect();
+                (0..LANES)
+                    .map(|l| per_measurand.iter().map(|m| m[l].clone()).collect())
+                    .collect::<Vec<Vec<Vec<(f64, f64)>>>>()
             },
         )
+        .flatten()
         .collect();
+    let boot = &boot[..replicates];
     let alpha = 0.5 * (1.0 - confidence);
     (0..measurands)
         .map(|m| {
@@ -209,6 +252,9 @@ pub fn indices(
         })
         .collect()
 }
+
+/// Most trials of the ordinary run that Spearman's correlations are computed over.
+pub const SPEARMAN_TRIALS: usize = 1 << 18;
 
 /// Independent scramblings of a quasi-random design for a randomised quasi-Monte Carlo interval.
 pub const SCRAMBLINGS: usize = 16;
@@ -254,18 +300,33 @@ pub fn scrambled_indices(runs: &[DesignRuns], confidence: f64) -> Vec<Vec<Factor
 
 /// Ranks 1..n of a column, ties sharing their mean rank.
 fn ranks(x: &[f64]) -> Vec<f64> {
-    let mut order: Vec<u32> = (0..x.len() as u32).collect();
-    order.sort_unstable_by(|a, b| x[*a as usize].total_cmp(&x[*b as usize]));
+    // Each value as a key whose unsigned order is the numeric order (sign bit flipped for
+    // positives, all bits for negatives; -0 made +0 first so the two zeros tie), the row in the
+    // low half: one contiguous sort of 16-byte integers, no indirect comparisons.
+    let key = |v: f64| {
+        let bits = (v + 0.0).to_bits();
+        if bits >> 63 == 1 {
+            !bits
+        } else {
+            bits | 1 << 63
+        }
+    };
+    let mut order: Vec<u128> = x
+        .iter()
+        .zip(0u64..)
+        .map(|(&v, j)| (key(v) as u128) << 64 | j as u128)
+        .collect();
+    order.sort_unstable();
     let mut r = vec![0.0; x.len()];
     let mut i = 0;
     while i < order.len() {
         let mut j = i;
-        while j + 1 < order.len() && x[order[j + 1] as usize] == x[order[i] as usize] {
+        while j + 1 < order.len() && order[j + 1] >> 64 == order[i] >> 64 {
             j += 1;
         }
         let mean_rank = (i + j) as f64 / 2.0 + 1.0;
-        for k in i..=j {
-            r[order[k] as usize] = mean_rank;
+        for p in &order[i..=j] {
+            r[*p as u64 as usize] = mean_rank;
         }
         i = j + 1;
     }
@@ -327,19 +388,32 @@ mod tests {
         let fa: Vec<f64> = (0..n).map(|j| v(j, 1)).collect();
         let fb: Vec<f64> = (0..n).map(|j| v(j, 2)).collect();
         let fab: Vec<Vec<f64>> = (3..6).map(|k| (0..n).map(|j| v(j, k)).collect()).collect();
-        let rows: Vec<u32> = (0..n).map(|j| ((j * 7919 + 13) % n) as u32).collect();
-        let mut counts = vec![0.0f64; n];
-        for &r in &rows {
-            counts[r as usize] += 1.0;
-        }
+        // A different resample in each lane.
         let shift = (fa.iter().sum::<f64>() + fb.iter().sum::<f64>()) / (2.0 * n as f64);
-        let a = estimate(&fa, &fb, &fab, Some(&rows));
-        let b = weighted_estimate(&fa, &fb, &fab, &counts, shift);
-        for (x, y) in a.iter().zip(&b) {
-            assert!(
-                (x.0 - y.0).abs() < 1e-12 && (x.1 - y.1).abs() < 1e-12,
-                "{x:?} {y:?}"
-            );
+        let design = DesignRows::new(&fa, &fb, &fab, shift);
+        let resamples: Vec<Vec<u32>> = (0..LANES)
+            .map(|l| {
+                (0..n)
+                    .map(|j| ((j * (7919 + 2 * l) + 13 * l) % n) as u32)
+                    .collect()
+            })
+            .collect();
+        let mut counts = vec![[0.0f64; LANES]; n];
+        for (l, rows) in resamples.iter().enumerate() {
+            for &r in rows {
+                counts[r as usize][l] += 1.0;
+            }
+        }
+        let lanes = weighted_estimates(&design, &counts);
+        for (rows, b) in resamples.iter().zip(&lanes) {
+            let a = estimate(&fa, &fb, &fab, Some(rows));
+            assert_eq!(a.len(), b.len());
+            for (x, y) in a.iter().zip(b) {
+                assert!(
+                    (x.0 - y.0).abs() < 1e-12 && (x.1 - y.1).abs() < 1e-12,
+                    "{x:?} {y:?}"
+                );
+            }
         }
     }
 }

@@ -3,7 +3,7 @@
 use super::cautions::cautions;
 use super::format::{cycles_text, duration, force_text, grouped, percent};
 use super::format::{fixed, measurand_unit, relative_percent, significant, value_and_uncertainty};
-use super::table::TextTable;
+use super::table::{TextTable, wrap_words};
 use crate::analysis::planning::{Comparison, PlanFinding};
 
 /// "relative expanded uncertainty 0.10 % (95 %)" and the like.
@@ -31,18 +31,23 @@ pub(crate) fn target_value(p: &PlanFinding, v: f64) -> String {
     }
 }
 
-/// The comparison table.
-pub(crate) fn comparison(c: &Comparison) -> String {
+/// The comparison table, its widest column wrapped to `width` characters.
+pub(crate) fn comparison(c: &Comparison, width: usize) -> String {
     let mut out = String::new();
     let first = &c.rows[0];
     let m = &first.findings.measurands[first.measurand];
     let p = percent(c.coverage);
-    out.push_str(&format!(
-        "Designs compared on `{}` (paired: M = {} trials and seed {} for every design), ranked by relative expanded uncertainty\n\n",
+    let heading = format!(
+        "Designs compared on `{}` (paired: M = {} trials and seed {} for every design), ranked by relative expanded uncertainty",
         m.name,
         grouped(c.trials),
         c.seed
-    ));
+    );
+    for line in wrap_words(&heading, width) {
+        out.push_str(&line);
+        out.push('\n');
+    }
+    out.push('\n');
     // Two narrow tables (the results; what dominates and the noise) with the designs numbered
     // D1, D2, ... in file order and a key of their titles, so that the report fits a terminal;
     // the full rows are in the JSON and CSV reports.
@@ -83,7 +88,7 @@ pub(crate) fn comparison(c: &Comparison) -> String {
         let top: Vec<String> = r
             .top
             .iter()
-            .map(|(n, sh)| format!("{n} {:.0} %", 100.0 * sh))
+            .map(|(n, sh)| format!("{} {:.0} %", r.input_called(n), 100.0 * sh))
             .collect();
         let (noise, time) = match (&r.findings.noise, &r.findings.procedure) {
             (Some(n), Some(p)) => (
@@ -128,14 +133,30 @@ pub(crate) fn comparison(c: &Comparison) -> String {
     out.push_str(&t.render());
     out.push('\n');
     for (i, r) in c.rows.iter().enumerate() {
-        out.push_str(&format!("D{}  {}\n", i + 1, r.name));
+        let id = format!("D{}", i + 1);
+        let indent = " ".repeat(id.len() + 2);
+        for (k, line) in wrap_words(&r.name, width.saturating_sub(indent.len()))
+            .iter()
+            .enumerate()
+        {
+            let lead = if k == 0 {
+                format!("{id}  ")
+            } else {
+                indent.clone()
+            };
+            out.push_str(&format!("{lead}{line}\n"));
+        }
     }
     out.push('\n');
-    out.push_str(&t2.render());
-    out.push_str(&format!(
-        "noise floor: {}\n\n",
-        crate::scenario::PSD_CONVENTION
-    ));
+    out.push_str(&t2.render_within(width, 1));
+    for line in wrap_words(
+        &format!("noise floor: {}", crate::scenario::PSD_CONVENTION),
+        width,
+    ) {
+        out.push_str(&line);
+        out.push('\n');
+    }
+    out.push('\n');
     let laser = c.rows.iter().any(|r| r.findings.laser);
     for line in cautions(laser) {
         out.push_str(line);

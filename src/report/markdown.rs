@@ -363,7 +363,7 @@ impl MarkdownReport {
                     ),
                     r.top
                         .iter()
-                        .map(|(n, sh)| format!("{n} ({:.0} %)", 100.0 * sh))
+                        .map(|(n, sh)| format!("{} ({:.0} %)", r.input_called(n), 100.0 * sh))
                         .collect::<Vec<_>>()
                         .join(", "),
                 ]

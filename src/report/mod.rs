@@ -35,7 +35,13 @@ pub(crate) struct Context {
     pub(crate) figures: Option<String>,
     /// The format of the figures.
     pub(crate) plot_format: PlotFormat,
+    /// The width plain-text tables are wrapped to: the terminal's when the report goes to one,
+    /// else [`TEXT_WIDTH`].
+    pub(crate) text_width: usize,
 }
+
+/// The width of a plain-text report written to a file or a pipe (the classic terminal).
+pub(crate) const TEXT_WIDTH: usize = 80;
 
 /// An output format.
 pub(crate) trait Exporter {

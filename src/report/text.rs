@@ -11,16 +11,20 @@ use crate::analysis::budget::NO_EFFECT_SHARE as NO_EFFECT;
 use crate::analysis::{Findings, MeasurandFinding};
 
 /// Human-readable tables of the results, with GUM rounding and readable units.
-pub(crate) struct TextReport;
+pub(crate) struct TextReport {
+    width: usize,
+}
 
 impl Exporter for TextReport {
-    fn new(_: &Context) -> Self {
-        TextReport
+    fn new(context: &Context) -> Self {
+        TextReport {
+            width: context.text_width,
+        }
     }
     fn render(&self, report: &Report<'_>) -> Result<Vec<u8>, String> {
         Ok(match report {
             Report::Run(f) => run(f),
-            Report::Compare(c) => super::decisions_text::comparison(c),
+            Report::Compare(c) => super::decisions_text::comparison(c, self.width),
             Report::Plan(p) => super::decisions_text::plan(p),
         }
         .into_bytes())

@@ -31,6 +31,33 @@ fn numerical(m: String) -> Error {
     Error::Run(RunError::Numerical(m))
 }
 
+/// The width of the terminal on stdout, when stdout is one (from the kernel's window size,
+/// else `COLUMNS`), kept within 60 to 240 columns.
+fn terminal_width() -> Option<usize> {
+    use std::io::IsTerminal;
+    if !std::io::stdout().is_terminal() {
+        return None;
+    }
+    #[cfg(target_os = "linux")]
+    {
+        let mut size = libc::winsize {
+            ws_row: 0,
+            ws_col: 0,
+            ws_xpixel: 0,
+            ws_ypixel: 0,
+        };
+        // SAFETY: TIOCGWINSZ fills the winsize it is given; fd 1 is open (it is a terminal).
+        let ok = unsafe { libc::ioctl(1, libc::TIOCGWINSZ, &mut size) } == 0;
+        if ok && size.ws_col > 0 {
+            return Some(usize::from(size.ws_col).clamp(60, 240));
+        }
+    }
+    std::env::var("COLUMNS")
+        .ok()
+        .and_then(|c| c.trim().parse::<usize>().ok())
+        .map(|c| c.clamp(60, 240))
+}
+
 /// Write the figures and the report; the report's bytes come back when they go to stdout.
 pub(crate) fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<Vec<u8>, Error> {
     let context = Context {
@@ -39,6 +66,10 @@ pub(crate) fn deliver(report: Report<'_>, out: &OutputArgs) -> Result<Vec<u8>, E
             .as_ref()
             .map(|d| figure_link(out.output.as_deref(), d)),
         plot_format: out.plot_format,
+        text_width: match out.output {
+            None => terminal_width().unwrap_or(report::TEXT_WIDTH),
+            Some(_) => report::TEXT_WIDTH,
+        },
     };
     // Render first: a report that cannot be written leaves no figure behind either.
     let bytes = report::exporter(out.format, &context)

@@ -239,6 +239,7 @@ pub(crate) fn rank_study(
         },
         confidence: study.coverage,
         grouped: runs[0].factors.iter().any(|f| f.len() > 1),
+        spearman_trials: 0,
     };
     findings.sensitivity = Some(analysis::sensitivity_finding(
         study, &findings, &runs, &samples, method, study.seed,

@@ -214,6 +214,7 @@ struct SensitivityMethodJson {
     intervals: &'static str,
     confidence: f64,
     grouped_correlated_inputs: bool,
+    spearman_trials: usize,
 }
 
 fn sensitivity_unit(measurand: &str, input: &str) -> String {
@@ -433,6 +434,7 @@ pub(crate) fn run_json(f: &Findings) -> RunJson<'_> {
                 },
                 confidence: m.confidence,
                 grouped_correlated_inputs: m.grouped,
+                spearman_trials: m.spearman_trials,
             }
         }),
     }

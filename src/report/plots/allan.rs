@@ -46,7 +46,7 @@ where
     chart
         .configure_mesh()
         .x_desc("averaging time tau / s")
-        .y_desc(format!("overlapping Allan deviation / {unit}"))
+        .y_desc(super::axis_title("overlapping Allan deviation", unit))
         .label_style(("sans-serif", 12))
         .draw()?;
     chart

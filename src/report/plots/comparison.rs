@@ -70,7 +70,7 @@ where
             format!(
                 "{} coverage intervals of {}, relative to each design's estimate",
                 percent(c.coverage),
-                m.name
+                super::called(&m.name, m.label.as_deref())
             ),
             ("sans-serif", 16),
         )
@@ -84,7 +84,10 @@ where
         .disable_x_mesh()
         .light_line_style(TRANSPARENT)
         .x_desc("design")
-        .y_desc(format!("deviation from the estimate of {} / %", m.name))
+        .y_desc(format!(
+            "deviation from the estimate of {} / %",
+            super::called(&m.name, m.label.as_deref())
+        ))
         .x_labels(segments)
         .x_label_formatter(&|v| match v {
             SegmentValue::CenterOf(i) => names.get(*i as usize).cloned().unwrap_or_default(),

@@ -14,14 +14,6 @@ const SYMMETRIC: RGBColor = RGBColor(230, 85, 13);
 const SHORTEST: RGBColor = RGBColor(49, 163, 84);
 const LPU: RGBColor = RGBColor(117, 107, 177);
 
-fn axis_label(name: &str, unit: &str) -> String {
-    if unit.is_empty() {
-        name.to_string()
-    } else {
-        format!("{name} / {unit}")
-    }
-}
-
 fn vline<DB: DrawingBackend>(
     chart: &mut ChartContext<
         '_,
@@ -73,7 +65,11 @@ where
     let p = percent(f.coverage);
     let mut chart = ChartBuilder::on(area)
         .caption(
-            format!("Distribution of {} ({} trials)", m.name, f.trials),
+            format!(
+                "Distribution of {} ({} trials)",
+                super::called(&m.name, m.label.as_deref()),
+                f.trials
+            ),
             ("sans-serif", 18),
         )
         .margin(12)
@@ -83,9 +79,14 @@ where
     chart
         .configure_mesh()
         .light_line_style(TRANSPARENT)
-        .x_desc(axis_label(&m.name, &unit.symbol))
+        .x_desc(super::axis_title(
+            super::called(&m.name, m.label.as_deref()),
+            &unit.symbol,
+        ))
         .y_desc(super::density_label(&unit.symbol))
         .label_style(("sans-serif", 12))
+        .x_label_formatter(&super::ticks(h.lo / k, h.hi / k))
+        .y_label_formatter(&super::ticks(0.0, top))
         .draw()?;
     let w = h.width() / k;
     chart
@@ -156,7 +157,10 @@ where
     let s = &m.monte_carlo;
     let mut chart = ChartBuilder::on(area)
         .caption(
-            format!("Distribution function of {}", m.name),
+            format!(
+                "Distribution function of {}",
+                super::called(&m.name, m.label.as_deref())
+            ),
             ("sans-serif", 18),
         )
         .margin(12)
@@ -166,9 +170,13 @@ where
     chart
         .configure_mesh()
         .light_line_style(TRANSPARENT)
-        .x_desc(axis_label(&m.name, &unit.symbol))
+        .x_desc(super::axis_title(
+            super::called(&m.name, m.label.as_deref()),
+            &unit.symbol,
+        ))
         .y_desc("probability")
         .label_style(("sans-serif", 12))
+        .x_label_formatter(&super::ticks(h.lo / k, h.hi / k))
         .draw()?;
     chart
         .draw_series(LineSeries::new(
@@ -229,7 +237,11 @@ where
     let top = if peak > 0.0 { peak * 1.15 } else { 1.0 };
     let mut chart = ChartBuilder::on(area)
         .caption(
-            format!("{} ({}): sampled against stated", q.name, q.distribution),
+            format!(
+                "{} ({}): sampled against stated",
+                super::called(&q.name, q.label.as_deref()),
+                q.distribution
+            ),
             ("sans-serif", 17),
         )
         .margin(12)
@@ -239,9 +251,14 @@ where
     chart
         .configure_mesh()
         .light_line_style(TRANSPARENT)
-        .x_desc(axis_label(&q.name, unit))
+        .x_desc(super::axis_title(
+            super::called(&q.name, q.label.as_deref()),
+            unit,
+        ))
         .y_desc(super::density_label(unit))
         .label_style(("sans-serif", 12))
+        .x_label_formatter(&super::ticks(h.lo / k, h.hi / k))
+        .y_label_formatter(&super::ticks(0.0, top))
         .draw()?;
     let w = h.width() / k;
     chart

@@ -41,12 +41,57 @@ where
     Ok(())
 }
 
-/// The label of a probability density axis: per unit of the quantity.
+/// The label of a probability density axis: per unit of the quantity (µ, ° and superscripts
+/// as a reader writes them).
 fn density_label(unit: &str) -> String {
     if unit.is_empty() {
         "probability density".to_string()
     } else {
-        format!("probability density / (1/{unit})")
+        format!("probability density / (1/{})", pretty(unit))
+    }
+}
+
+/// Tick labels for an axis from `lo` to `hi` with as many digits as the tick spacing (about a
+/// tenth of the span) needs: fixed notation for magnitudes from 1e-3 to 1e5, else scientific,
+/// so that neighbouring ticks never read the same.
+fn ticks(lo: f64, hi: f64) -> impl Fn(&f64) -> String {
+    let step = ((hi - lo).abs() / 10.0).max(f64::MIN_POSITIVE);
+    let size = lo.abs().max(hi.abs());
+    let scientific = size >= 1e5 || (size > 0.0 && size < 1e-3);
+    let digits = if scientific {
+        ((size / step).log10().ceil().max(0.0) as usize).min(12)
+    } else {
+        ((-step.log10()).ceil().max(0.0) as usize).min(12)
+    };
+    move |v: &f64| {
+        let v = if *v == 0.0 { 0.0 } else { *v };
+        if scientific && v != 0.0 {
+            format!("{v:.digits$e}")
+        } else if scientific {
+            "0".to_string()
+        } else {
+            format!("{v:.digits$}")
+        }
+    }
+}
+
+/// What a figure calls a quantity: the scenario's `label` when given, else its name.
+fn called<'a>(name: &'a str, label: Option<&'a str>) -> &'a str {
+    label.unwrap_or(name)
+}
+
+/// A unit symbol as a figure prints it (`uN` as µN, `deg` as °, `m^2` as m²).
+fn pretty(unit: &str) -> String {
+    crate::report::format::pretty_unit(unit)
+}
+
+/// An axis title: the quantity and its unit, `quantity / unit` (ISO 80000-1 7.1), or the
+/// quantity alone when it has no unit.
+fn axis_title(quantity: &str, unit: &str) -> String {
+    if unit.is_empty() {
+        quantity.to_string()
+    } else {
+        format!("{quantity} / {}", pretty(unit))
     }
 }
 
@@ -173,11 +218,17 @@ pub(crate) fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, Str
         if m.shape.is_some() {
             out.push((
                 file_name("distribution", &m.name, format),
-                format!("Distribution of {} from the trials", m.name),
+                format!(
+                    "Distribution of {} from the trials",
+                    called(&m.name, m.label.as_deref())
+                ),
             ));
             out.push((
                 file_name("cdf", &m.name, format),
-                format!("Distribution function of {}", m.name),
+                format!(
+                    "Distribution function of {}",
+                    called(&m.name, m.label.as_deref())
+                ),
             ));
         }
     }
@@ -185,26 +236,34 @@ pub(crate) fn figure_names(f: &Findings, format: PlotFormat) -> Vec<(String, Str
         if q.shape.is_some() {
             out.push((
                 file_name("input", &q.name, format),
-                format!("Sampled values of {} against its stated density", q.name),
+                format!(
+                    "Sampled values of {} against its stated density",
+                    called(&q.name, q.label.as_deref())
+                ),
             ));
         }
     }
     if let Some(s) = &f.sensitivity {
         for m in 0..s.measurands.len() {
-            let name = &f.measurands[m].name;
+            let meas = &f.measurands[m];
             out.push((
-                file_name("sensitivity", name, format),
-                format!("Sobol indices of {name}"),
+                file_name("sensitivity", &meas.name, format),
+                format!(
+                    "Sobol indices of {}",
+                    called(&meas.name, meas.label.as_deref())
+                ),
             ));
         }
     }
     if let Some(sw) = &f.sweep {
-        let input = &f.inputs[sw.input].name;
+        let q = &f.inputs[sw.input];
+        let meas = &f.measurands[sw.measurand];
         out.push((
-            file_name("sweep", input, format),
+            file_name("sweep", &q.name, format),
             format!(
-                "Relative uncertainty of {} along {input}",
-                f.measurands[sw.measurand].name
+                "Relative uncertainty of {} along {}",
+                called(&meas.name, meas.label.as_deref()),
+                called(&q.name, q.label.as_deref())
             ),
         ));
     }
@@ -263,10 +322,9 @@ pub(crate) fn figures(f: &Findings, format: PlotFormat) -> Result<Vec<Figure>, S
     }
     if let Some(s) = &f.sensitivity {
         for (m, rows) in s.measurands.iter().enumerate() {
-            let width = (160 + 70 * rows.len() as u32).clamp(640, 1600);
-            push(chart!(format, (width, 480), |a| sensitivity::draw(
-                a, f, m, rows
-            ))?);
+            push(chart!(format, sensitivity::size(f, rows), |a| {
+                sensitivity::draw(a, f, m, rows)
+            })?);
         }
     }
     if let Some(sw) = &f.sweep {
@@ -327,6 +385,28 @@ pub(crate) fn comparison_figures(
         caption: "Coverage intervals of the designs, relative to each estimate".into(),
         bytes: chart!(format, (width, height), |a| comparison::draw(a, c))?,
     }])
+}
+
+#[cfg(test)]
+mod tick_tests {
+    use super::ticks;
+
+    #[test]
+    fn neighbouring_ticks_read_differently() {
+        // An input of 3.000e-4 kg m^2 with sd 0.009e-4 (the torsion demo), a density near 5e5,
+        // and a force of a few nN.
+        for (lo, hi) in [(2.97e-4, 3.03e-4), (0.0, 5.2e5), (1.0, 1.8), (-2.0, 2.0)] {
+            let t = ticks(lo, hi);
+            let step = (hi - lo) / 10.0;
+            let labels: Vec<String> = (0..=10).map(|i| t(&(lo + step * i as f64))).collect();
+            for w in labels.windows(2) {
+                assert_ne!(w[0], w[1], "{lo}..{hi}: {labels:?}");
+            }
+        }
+        assert_eq!(ticks(2.97e-4, 3.03e-4)(&3.0e-4), "3.000e-4");
+        assert_eq!(ticks(0.0, 5.2e5)(&5.0e5), "5.0e5");
+        assert_eq!(ticks(1.0, 1.8)(&1.2), "1.20");
+    }
 }
 
 #[cfg(test)]

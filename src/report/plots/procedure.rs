@@ -41,7 +41,7 @@ where
                 "simulated record (signal + noise from the model)",
             ),
         ],
-        &format!("force / {unit}"),
+        &super::axis_title("force", unit),
         true,
     )?;
     let noise: Vec<f64> = r
@@ -54,7 +54,7 @@ where
         &lower,
         r,
         &[(&noise, RECORD, "noise alone (record minus signal)")],
-        &format!("noise / {noise_unit}"),
+        &super::axis_title("noise", noise_unit),
         false,
     )
 }

@@ -61,17 +61,13 @@ where
     } else {
         1.0
     };
-    let unit = if q.shown_unit.symbol.is_empty() {
-        String::new()
-    } else {
-        format!(
-            " / {}",
-            crate::report::format::pretty_unit(&q.shown_unit.symbol)
-        )
-    };
+    let (q_called, m_called) = (
+        super::called(&q.name, q.label.as_deref()),
+        super::called(&m.name, m.label.as_deref()),
+    );
     let mut chart = ChartBuilder::on(area)
         .caption(
-            format!("Relative uncertainty of {} along {}", m.name, q.name),
+            format!("Relative uncertainty of {m_called} along {q_called}"),
             ("sans-serif", 18),
         )
         .margin(12)
@@ -81,8 +77,8 @@ where
     chart
         .configure_mesh()
         .light_line_style(TRANSPARENT)
-        .x_desc(format!("{}{unit}", q.name))
-        .y_desc(format!("relative uncertainty of {} / %", m.name))
+        .x_desc(super::axis_title(q_called, &q.shown_unit.symbol))
+        .y_desc(format!("relative uncertainty of {m_called} / %"))
         .label_style(("sans-serif", 12))
         .draw()?;
     chart
