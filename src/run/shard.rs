@@ -321,12 +321,7 @@ pub(crate) fn run_shard(
     };
     output::check_writable(path, args.out.force)?;
     output::check_folder(path)?;
-    let text = std::fs::read_to_string(&args.study.file).map_err(|e| {
-        InputError::file(
-            study.file.clone(),
-            format!("cannot read the scenario file: {e}"),
-        )
-    })?;
+    let text = crate::scenario::read_scenario_text(&args.study.file)?;
     if !args.out.quiet {
         for w in &study.warnings {
             warn(w);

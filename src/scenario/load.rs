@@ -37,38 +37,52 @@ const TOP_KEYS: &[&str] = &[
 
 const TOP_EXAMPLE: &str = "title = \"...\", trials = 1_000_000, seed = 7, coverage = 0.95, [model], [inputs.NAME], [measurands.NAME]";
 
-/// Read and validate a scenario file.
-pub fn load_file(path: &Path) -> Result<Study, InputError> {
+/// Read at most `limit` bytes of `path`: `Ok(None)` when it holds more. The limit applies
+/// while reading, so an endless stream (`/dev/zero`, a pipe) costs at most `limit + 1` bytes.
+pub(crate) fn read_at_most(path: &Path, limit: u64) -> std::io::Result<Option<Vec<u8>>> {
+    use std::io::Read;
+    let mut bytes = Vec::new();
+    std::fs::File::open(path)?
+        .take(limit + 1)
+        .read_to_end(&mut bytes)?;
+    Ok((bytes.len() as u64 <= limit).then_some(bytes))
+}
+
+/// The text of a scenario file, at most [`MAX_SCENARIO_BYTES`] of UTF-8.
+pub(crate) fn read_scenario_text(path: &Path) -> Result<String, InputError> {
     let shown = path.display().to_string();
-    let meta = std::fs::metadata(path).map_err(|e| {
-        InputError::file(&shown, format!("cannot read the scenario file: {e}"))
-            .with_example("radforce run data/torsion-vacuum-25w.toml")
-    })?;
-    if meta.is_dir() {
+    if std::fs::metadata(path).is_ok_and(|m| m.is_dir()) {
         return Err(
             InputError::file(&shown, "is a directory, not a scenario file")
                 .with_example("radforce run data/torsion-vacuum-25w.toml"),
         );
     }
-    if meta.len() > MAX_SCENARIO_BYTES {
-        return Err(InputError::file(
-            &shown,
-            format!(
-                "is {} bytes, far larger than any scenario (limit {MAX_SCENARIO_BYTES} bytes); is it the right file?",
-                meta.len()
-            ),
-        ));
-    }
-    let bytes = std::fs::read(path)
-        .map_err(|e| InputError::file(&shown, format!("cannot read the scenario file: {e}")))?;
-    let text = String::from_utf8(bytes).map_err(|e| {
+    let bytes = read_at_most(path, MAX_SCENARIO_BYTES)
+        .map_err(|e| {
+            InputError::file(&shown, format!("cannot read the scenario file: {e}"))
+                .with_example("radforce run data/torsion-vacuum-25w.toml")
+        })?
+        .ok_or_else(|| {
+            InputError::file(
+                &shown,
+                format!(
+                    "is larger than any scenario (limit {MAX_SCENARIO_BYTES} bytes, read no further); is it the right file?"
+                ),
+            )
+        })?;
+    String::from_utf8(bytes).map_err(|e| {
         let offset = e.utf8_error().valid_up_to();
         InputError::file(
             &shown,
             format!("is not UTF-8 text (invalid byte at offset {offset}); save it as UTF-8"),
         )
-    })?;
-    load_str(&text, &shown)
+    })
+}
+
+/// Read and validate a scenario file.
+pub fn load_file(path: &Path) -> Result<Study, InputError> {
+    let text = read_scenario_text(path)?;
+    load_str(&text, &path.display().to_string())
 }
 
 /// Read and validate scenario text; `file` names it in messages.

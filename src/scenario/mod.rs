@@ -27,6 +27,7 @@ pub use correlation::{CorrelatedGroup, CorrelatedPair, Correlations};
 pub use forecast::Forecast;
 pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
 pub use load::{load_file, load_str};
+pub(crate) use load::read_scenario_text;
 pub use noise::{MeasuredNoise, NoiseFloor};
 pub use source::{Source, edit_distance, nearest};
 pub use study::{

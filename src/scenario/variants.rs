@@ -16,8 +16,7 @@ pub(crate) fn load_designs(path: &Path) -> Result<Vec<(String, Study)>, InputErr
         return Ok(vec![(base.title.clone(), base)]);
     }
     let shown = path.display().to_string();
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| InputError::file(&shown, format!("cannot read the scenario file: {e}")))?;
+    let text = super::load::read_scenario_text(path)?;
     let mut out = vec![(base.title.clone(), base)];
     out.extend(load_variants_str(&text, &shown)?);
     Ok(out)

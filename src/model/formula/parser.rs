@@ -179,10 +179,17 @@ struct Parser {
     tokens: Vec<Token>,
     at: usize,
     depth: usize,
+    /// The height of the expression last parsed (a leaf is 1).
+    height: usize,
 }
 
 /// Deepest nesting accepted, so that a hostile formula cannot overflow the stack.
 const MAX_DEPTH: usize = 200;
+
+/// Tallest expression tree accepted: a chain of operators (`a + a + ... + a`) is parsed in a
+/// loop but builds a tree as tall as it is long, which every later pass (folding, dimensions,
+/// compiling, freeing) walks recursively; 500 levels stay far inside the smallest thread stack.
+pub(crate) const MAX_HEIGHT: usize = 500;
 
 impl Parser {
     fn peek(&self) -> &Token {
@@ -198,6 +205,24 @@ impl Parser {
     fn is_op(&self, c: char) -> bool {
         self.peek().tok == Tok::Op(c)
     }
+    /// Record the height of a node built over children of heights `children`, refusing a tree
+    /// taller than [`MAX_HEIGHT`] at the operator `pos`.
+    fn node(&mut self, children: usize, pos: usize, len: usize) -> Result<(), FormulaError> {
+        self.height = children + 1;
+        if self.height > MAX_HEIGHT {
+            return Err(FormulaError::at(
+                pos,
+                len,
+                format!(
+                    "the formula is too long a chain: more than {MAX_HEIGHT} operations build \
+                     on each other here; split it into intermediate formulas (`s1 = a + b + c`, \
+                     then `s1 + d + e`)"
+                ),
+            ));
+        }
+        Ok(())
+    }
+
     fn enter(&mut self) -> Result<(), FormulaError> {
         self.depth += 1;
         if self.depth > MAX_DEPTH {
@@ -211,10 +236,13 @@ impl Parser {
         self.enter()?;
         let mut lhs = self.term()?;
         while self.is_op('+') || self.is_op('-') {
+            let (pos, len) = (self.peek().pos, self.peek().len);
             let Tok::Op(op) = self.bump().tok else {
                 unreachable!()
             };
+            let left = self.height;
             let rhs = self.term()?;
+            self.node(left.max(self.height), pos, len)?;
             lhs = Expr::Binary(op, Box::new(lhs), Box::new(rhs));
         }
         self.depth -= 1;
@@ -224,10 +252,13 @@ impl Parser {
     fn term(&mut self) -> Result<Expr, FormulaError> {
         let mut lhs = self.unary()?;
         while self.is_op('*') || self.is_op('/') {
+            let (pos, len) = (self.peek().pos, self.peek().len);
             let Tok::Op(op) = self.bump().tok else {
                 unreachable!()
             };
+            let left = self.height;
             let rhs = self.unary()?;
+            self.node(left.max(self.height), pos, len)?;
             lhs = Expr::Binary(op, Box::new(lhs), Box::new(rhs));
         }
         Ok(lhs)
@@ -236,8 +267,11 @@ impl Parser {
     fn unary(&mut self) -> Result<Expr, FormulaError> {
         self.enter()?;
         let e = if self.is_op('-') {
+            let (pos, len) = (self.peek().pos, self.peek().len);
             self.bump();
-            Expr::Neg(Box::new(self.unary()?))
+            let inner = self.unary()?;
+            self.node(self.height, pos, len)?;
+            Expr::Neg(Box::new(inner))
         } else if self.is_op('+') {
             self.bump();
             self.unary()?
@@ -251,8 +285,11 @@ impl Parser {
     fn power(&mut self) -> Result<Expr, FormulaError> {
         let base = self.primary()?;
         if self.is_op('^') {
+            let (pos, len) = (self.peek().pos, self.peek().len);
             self.bump();
+            let left = self.height;
             let exponent = self.unary()?;
+            self.node(left.max(self.height), pos, len)?;
             return Ok(Expr::Binary('^', Box::new(base), Box::new(exponent)));
         }
         Ok(base)
@@ -263,10 +300,12 @@ impl Parser {
         match self.peek().tok.clone() {
             Tok::Num(v) => {
                 self.bump();
+                self.height = 1;
                 Ok(Expr::Number(v))
             }
             Tok::Ident(name) => {
                 self.bump();
+                self.height = 1;
                 if self.is_op('(') {
                     let Some((func, (least, most))) = Func::from_name(&name) else {
                         return Err(FormulaError::at(
@@ -280,9 +319,11 @@ impl Parser {
                     };
                     self.bump();
                     let mut args = Vec::new();
+                    let mut tallest = 0;
                     if !self.is_op(')') {
                         loop {
                             args.push(self.expr()?);
+                            tallest = tallest.max(self.height);
                             if self.is_op(',') {
                                 self.bump();
                             } else {
@@ -310,6 +351,7 @@ impl Parser {
                             format!("`{name}` takes {wanted} argument(s), got {}", args.len()),
                         ));
                     }
+                    self.node(tallest, pos, len)?;
                     return Ok(Expr::Call(func, args));
                 }
                 if name == "pi" {
@@ -358,6 +400,7 @@ pub fn parse(text: &str) -> Result<Expr, FormulaError> {
         tokens,
         at: 0,
         depth: 0,
+        height: 0,
     };
     if p.peek().tok == Tok::End {
         return Err(FormulaError::at(0, 1, "the formula is empty"));
@@ -412,5 +455,48 @@ mod tests {
         assert_eq!(e.position, 2);
         let deep = "(".repeat(500) + "a" + &")".repeat(500);
         assert!(parse(&deep).unwrap_err().message.contains("deeply"));
+    }
+
+    /// Iterative height of a tree (the check itself must not recurse).
+    fn height(e: &Expr) -> usize {
+        let mut tallest = 0;
+        let mut stack = vec![(e, 1)];
+        while let Some((e, h)) = stack.pop() {
+            tallest = tallest.max(h);
+            match e {
+                Expr::Neg(a) => stack.push((a, h + 1)),
+                Expr::Binary(_, a, b) => {
+                    stack.push((a, h + 1));
+                    stack.push((b, h + 1));
+                }
+                Expr::Call(_, args) => stack.extend(args.iter().map(|a| (a, h + 1))),
+                _ => {}
+            }
+        }
+        tallest
+    }
+
+    #[test]
+    fn long_chains_are_refused_before_they_grow_a_tall_tree() {
+        // Every kind of chain, within the limit and far past it (30 000 terms, 60 kB: the
+        // size that overflowed the stack before the limit).
+        for op in ["+", "-", "*", "/", "^"] {
+            let terms = |n: usize| vec!["a"; n].join(op);
+            // `^` is right-associative, parsed by recursion: the nesting limit applies first.
+            let ok = parse(&terms(150)).unwrap();
+            assert_eq!(height(&ok), 150);
+            let e = parse(&terms(30_000)).unwrap_err();
+            assert!(
+                e.message.contains("too long a chain") || e.message.contains("deeply"),
+                "{op}: {}",
+                e.message
+            );
+        }
+        let negations = "-".repeat(30_000) + "a";
+        assert!(parse(&negations).is_err());
+        let nested_calls = "abs(".repeat(80) + &vec!["a"; 450].join("+") + &")".repeat(80);
+        assert!(parse(&nested_calls).unwrap_err().message.contains("chain"));
+        let wide = format!("max({})", vec!["a"; 30_000].join(", "));
+        assert_eq!(height(&parse(&wide).unwrap()), 2);
     }
 }
