@@ -52,6 +52,12 @@ impl InputError {
     }
 }
 
+/// A character as a message may show it: a control character (other than tab) as `?`, so that
+/// no escape sequence from a user's file reaches the terminal.
+fn visible(c: char) -> char {
+    if c.is_control() && c != '\t' { '?' } else { c }
+}
+
 impl fmt::Display for InputError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(f, "{}", self.file)?;
@@ -66,12 +72,22 @@ impl fmt::Display for InputError {
         if let Some(loc) = &self.location {
             let gutter = loc.line.to_string().len();
             let pad = " ".repeat(gutter);
-            let shown: String = loc.source_line.chars().take(160).collect();
+            // A window of the line around the column (a long line is cut on both sides), with
+            // control characters shown as escapes, never sent to the terminal raw.
+            let from = loc.column.saturating_sub(1).saturating_sub(80);
+            let shown: String = loc
+                .source_line
+                .chars()
+                .skip(from)
+                .take(160)
+                .map(visible)
+                .collect();
             write!(f, "\n{pad} |\n{} | {shown}\n{pad} | ", loc.line)?;
             let lead: String = loc
                 .source_line
                 .chars()
-                .take(loc.column.saturating_sub(1))
+                .skip(from)
+                .take(loc.column.saturating_sub(1) - from)
                 .map(|c| if c == '\t' { '\t' } else { ' ' })
                 .collect();
             write!(f, "{lead}{}", "^".repeat(loc.width.clamp(1, 80)))?;
@@ -91,8 +107,7 @@ pub enum RunError {
     /// A model value was NaN or infinite in some trial.
     #[error(
         "measurand `{measurand}` is not finite ({value}) in trial {trial}; the inputs of that \
-         trial were: {inputs}. Check the input distributions (a divisor that can reach 0, a \
-         square root or logarithm of a value that can go negative)"
+         trial were: {inputs}. {hint}"
     )]
     NonFinite {
         /// The measurand.
@@ -103,6 +118,8 @@ pub enum RunError {
         value: String,
         /// `name = value` for every input of that trial.
         inputs: String,
+        /// The likely cause, from the inputs of that trial.
+        hint: String,
     },
     /// The samples would not fit in the memory budget.
     #[error(

@@ -10,22 +10,46 @@ use radforce::run::commands;
 use std::io::{IsTerminal, Write};
 use std::process::ExitCode;
 
-/// Print on stdout; a closed pipe (`| head`) is not an error of the run.
+/// Text for a terminal: control characters other than newline and tab shown as `?`, so that
+/// nothing a user supplied (a file name, a title) acts as a terminal command.
+fn for_terminal(text: &str) -> String {
+    text.chars()
+        .map(|c| {
+            if c.is_control() && c != '\n' && c != '\t' {
+                '?'
+            } else {
+                c
+            }
+        })
+        .collect()
+}
+
+/// Print on stdout (made safe for a terminal when it is one); a closed pipe (`| head`) is not
+/// an error of the run.
 fn write_stdout(bytes: &[u8]) {
     let mut out = std::io::stdout().lock();
+    let safe;
+    let bytes = match std::str::from_utf8(bytes) {
+        Ok(text) if out.is_terminal() => {
+            safe = for_terminal(text);
+            safe.as_bytes()
+        }
+        _ => bytes,
+    };
     let _ = out.write_all(bytes).and_then(|()| out.flush());
 }
 
 fn warn(message: &str) {
-    eprintln!("warning: {message}");
+    eprintln!("warning: {}", for_terminal(message));
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
-    // Ctrl-C asks the trials to stop; nothing is written for a stopped run. A second Ctrl-C
-    // leaves at once.
+    // Ctrl-C asks the run to stop: the trials stop, nothing is published, the exit code is 130.
+    // A second Ctrl-C leaves at once, removing the temporary files being written.
     let _ = ctrlc::set_handler(|| {
         if engine::progress::interrupted() {
+            radforce::run::output::remove_pending();
             std::process::exit(130);
         }
         engine::progress::interrupt();
@@ -60,10 +84,11 @@ fn main() -> ExitCode {
             // Colour only on a terminal, and never with NO_COLOR (https://no-color.org).
             let colour = std::io::stderr().is_terminal()
                 && std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty());
+            let message = for_terminal(&e.to_string());
             if colour {
-                eprintln!("\x1b[1;31merror:\x1b[0m {e}");
+                eprintln!("\x1b[1;31merror:\x1b[0m {message}");
             } else {
-                eprintln!("error: {e}");
+                eprintln!("error: {message}");
             }
             ExitCode::from(e.exit_code() as u8)
         }

@@ -99,7 +99,10 @@ fn a_run_as_one_page() {
         assert_eq!(f.select(&Selector::parse("svg").unwrap()).count(), 1);
     }
     let first: String = select(&doc, "figcaption")[0].text().collect();
-    assert!(first.starts_with("Uncertainty budget of laser power"), "{first}");
+    assert!(
+        first.starts_with("Uncertainty budget of laser power"),
+        "{first}"
+    );
 }
 
 // A title with markup is shown as text, never interpreted.

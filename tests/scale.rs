@@ -189,7 +189,9 @@ fn bad_shards_and_merges_are_refused() {
         .args(["merge", p0.to_str().unwrap()])
         .assert()
         .code(2)
-        .stderr(predicate::str::contains("shard 1/2 is missing"));
+        .stderr(predicate::str::contains(
+            "made in 2 shards but 1 partial results were given",
+        ));
     radforce()
         .args(["merge", p0.to_str().unwrap(), p0.to_str().unwrap()])
         .assert()

@@ -2,7 +2,6 @@
 
 use super::{
     Distribution, Family, FamilySpec, ParamKind, ParameterError, invalid, require_ordered,
-    require_positive,
 };
 use rand::Rng;
 use rand_distr::Distribution as _;
@@ -31,8 +30,8 @@ impl PartialEq for BetaScaled {
 impl BetaScaled {
     /// A scaled beta; `alpha`, `beta` positive and `min < max`.
     pub fn new(alpha: f64, beta: f64, min: f64, max: f64) -> Result<Self, ParameterError> {
-        let alpha = require_positive("alpha", alpha)?;
-        let beta = require_positive("beta", beta)?;
+        let alpha = super::require_shape("alpha", alpha)?;
+        let beta = super::require_shape("beta", beta)?;
         require_ordered(min, max)?;
         let sampler = rand_distr::Beta::new(alpha, beta)
             .map_err(|e| invalid("alpha", format!("beta parameters rejected: {e}")))?;

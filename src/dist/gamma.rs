@@ -24,7 +24,7 @@ impl PartialEq for GammaDist {
 impl GammaDist {
     /// A gamma distribution; `shape` and `scale` must be positive.
     pub fn new(shape: f64, scale: f64) -> Result<Self, ParameterError> {
-        let shape = require_positive("shape", shape)?;
+        let shape = super::require_shape("shape", shape)?;
         let scale = require_positive("scale", scale)?;
         let sampler = rand_distr::Gamma::new(shape, scale)
             .map_err(|e| super::invalid("shape", format!("gamma parameters rejected: {e}")))?;

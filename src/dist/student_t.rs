@@ -116,6 +116,17 @@ impl ScaledT {
         let mean = require_finite("mean", mean)?;
         let scale = require_positive("scale", scale)?;
         let dof = require_positive("dof", dof)?;
+        let least = super::SHAPE_RANGE.0;
+        if dof < least {
+            // Below it statrs's quantile function panics (subnormal halves) and the draws
+            // overflow: no state of knowledge is that heavy-tailed.
+            return Err(invalid(
+                "dof",
+                format!(
+                    "`dof` = {dof:e} is below {least}; give the degrees of freedom of the evaluation (at least {least})"
+                ),
+            ));
+        }
         Self::build(mean, scale, dof, None)
     }
 
@@ -134,7 +145,14 @@ impl ScaledT {
         let mean = values.iter().sum::<f64>() / n as f64;
         let ss: f64 = values.iter().map(|v| (v - mean).powi(2)).sum();
         let s = (ss / (n as f64 - 1.0)).sqrt();
-        if s <= 0.0 || !s.is_finite() {
+        if !(mean.is_finite() && s.is_finite()) {
+            return Err(invalid(
+                "values",
+                "the readings' mean or spread overflows double precision (values beyond about \
+                 1e154 apart); write them in a larger unit",
+            ));
+        }
+        if s <= 0.0 {
             return Err(invalid(
                 "values",
                 "the readings are all equal, so their standard deviation is 0; for a known \

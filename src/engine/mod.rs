@@ -160,8 +160,36 @@ pub(crate) struct ChunkSummary {
     pub(crate) measurand_pairs: Vec<CoMoments>,
 }
 
-/// The merged statistics of chunk summaries, combined in ascending chunk order.
-pub(crate) fn merge_chunks(
+/// The merged statistics, as [`merge_chunks`] gives them.
+pub(crate) type Merged = (Vec<Moments>, Vec<CoMoments>, Vec<CoMoments>);
+
+/// The merged statistics of chunk summaries, combined in ascending chunk order. A measurand
+/// whose mean or sum of squared deviations is not a finite double (values of spread near 1e154
+/// or beyond, whose squares overflow) is refused: its standard uncertainty cannot be computed,
+/// and no number is better than a wrong one.
+pub(crate) fn merge_chunks(study: &Study, chunks: &[ChunkSummary]) -> Result<Merged, RunError> {
+    let (moments, inputs, pairs) = merge_in_order(
+        chunks,
+        study.model.measurands,
+        study.correlations.pairs.len(),
+    );
+    if let Some((i, _)) = moments
+        .iter()
+        .enumerate()
+        .find(|(_, m)| !(m.mean.is_finite() && m.m2.is_finite()))
+    {
+        return Err(RunError::Numerical(format!(
+            "the variance of measurand `{}` overflows double precision (its values spread over \
+             more than about 1e154 in SI units), so no uncertainty can be given; check the \
+             inputs' spreads (a standard deviation in the wrong unit?)",
+            study.measurands[i].name
+        )));
+    }
+    Ok((moments, inputs, pairs))
+}
+
+/// Chunk summaries combined in ascending chunk order.
+fn merge_in_order(
     chunks: &[ChunkSummary],
     measurands: usize,
     input_pairs: usize,
@@ -215,7 +243,27 @@ fn fault_error(study: &Study, f: Fault) -> RunError {
         .map(|(q, v)| format!("{} = {v:e}", q.name))
         .collect::<Vec<_>>()
         .join(", ");
+    // An input of extreme size (a quality factor of 1e300, a value in the wrong unit) makes the
+    // model overflow; otherwise the usual causes of NaN and infinity.
+    let huge = study
+        .inputs
+        .iter()
+        .zip(&f.inputs)
+        .filter(|(_, v)| v.abs() > 1e100 || (**v != 0.0 && v.abs() < 1e-100))
+        .map(|(q, v)| format!("{} = {v:e}", q.name))
+        .collect::<Vec<_>>();
+    let hint = if huge.is_empty() {
+        "Check the input distributions (a divisor that can reach 0, a square root or logarithm \
+         of a value that can go negative)"
+            .to_string()
+    } else {
+        format!(
+            "{} is of an extreme size that makes the model overflow: check its value and unit",
+            huge.join(", ")
+        )
+    };
     RunError::NonFinite {
+        hint,
         measurand: study.measurands[f.measurand].name.clone(),
         trial: f.trial,
         value: format!("{}", f.value),
@@ -290,8 +338,7 @@ pub fn simulate(study: &Study, plan: Plan) -> Result<Samples, RunError> {
     if interrupted {
         return Err(RunError::Interrupted);
     }
-    let (moments, input_pairs, measurand_pairs) =
-        merge_chunks(&summaries, n_meas, study.correlations.pairs.len());
+    let (moments, input_pairs, measurand_pairs) = merge_chunks(study, &summaries)?;
     Ok(Samples {
         trials: m,
         measurands: meas_cols,

@@ -111,23 +111,22 @@ fn finish(
     m: u64,
     summaries: &[ChunkSummary],
     intervals: Vec<CoverageIntervals>,
-) -> MonteCarlo {
+) -> Result<MonteCarlo, RunError> {
     let nm = study.model.measurands;
-    let (moments, input_pairs, measurand_pairs) =
-        merge_chunks(summaries, nm, study.correlations.pairs.len());
+    let (moments, input_pairs, measurand_pairs) = merge_chunks(study, summaries)?;
     let summaries: Vec<Summary> = moments
         .iter()
         .zip(&intervals)
         .map(|(mo, ci)| from_parts(mo, ci))
         .collect();
-    MonteCarlo {
+    Ok(MonteCarlo {
         trials: m,
         summaries,
         measurand_pairs,
         input_pairs,
         shapes: vec![None; nm],
         input_shapes: vec![None; study.inputs.len()],
-    }
+    })
 }
 
 /// One pass with thresholds from a pilot at `sigmas`; `None` when the run needs two passes
@@ -199,7 +198,9 @@ pub(crate) fn one_pass(
                 .map(|(lo, hi)| intervals_from_unsorted_tails(&lo, &hi, m as usize, p))
         })
         .collect();
-    Ok(intervals.map(|ci| finish(study, m, &summaries, ci)))
+    intervals
+        .map(|ci| finish(study, m, &summaries, ci))
+        .transpose()
 }
 
 /// Run `plan` in two passes (or more, when the measurands' tails must be collected in groups),
@@ -286,7 +287,7 @@ pub(crate) fn simulate_streamed(
         }
     }
     let intervals = intervals.into_iter().flatten().collect();
-    Ok((finish(study, m, &summaries, intervals), passes))
+    Ok((finish(study, m, &summaries, intervals)?, passes))
 }
 
 #[cfg(test)]

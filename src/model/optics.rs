@@ -283,6 +283,15 @@ pub(crate) fn optics_checks(inputs: &InputValues<'_>) -> Result<Vec<String>, Cha
         });
     }
     let defined = |n: &str| (inputs.upper)(n).and((inputs.estimate)(n));
+    // Radiation-force balances use beams and mirrors of millimetres to a few centimetres
+    // (common practice); a radius of 10 cm or more is most likely a bare number meant in mm.
+    for n in ["beam_radius", "mirror_radius"] {
+        if let Some(r) = defined(n).filter(|r| *r >= 0.1) {
+            warnings.push(format!(
+                "{n} is {r} m, larger than the beams and mirrors of any radiation-force balance; a bare number is read in SI units (metres): did you mean \"{r} mm\"?"
+            ));
+        }
+    }
     if let (Some(a), Some(w)) = (defined("mirror_radius"), defined("beam_radius")) {
         let theta = (inputs.estimate)("incidence").unwrap_or(0.0)
             + (inputs.estimate)("mirror_tilt").unwrap_or(0.0);

@@ -20,9 +20,10 @@ pub fn torsion_constant_from_period<T: Scalar>(moment_of_inertia: T, free_period
 /// Q: kappa / (1 - 1/(4 Q^2)), since omega_d^2 = omega_0^2 (1 - 1/(4 Q^2)) for viscous damping
 /// (Landau and Lifshitz, Mechanics, 25).
 pub fn damping_corrected<T: Scalar>(kappa: T, quality_factor: T) -> T {
-    // kappa / (1 - 1/(4 Q^2)) = kappa Q^2 / (Q^2 - 1/4), one division.
+    // kappa / (1 - 1/(4 Q^2)), written so that a huge Q (whose square overflows) gives kappa,
+    // not inf/inf.
     let q2 = quality_factor * quality_factor;
-    kappa * q2 / (q2 - T::cst(0.25))
+    kappa / (T::cst(1.0) - T::cst(0.25) / q2)
 }
 
 /// Torsion constant of a round fibre of shear modulus G, radius r and length l:

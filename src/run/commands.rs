@@ -35,11 +35,15 @@ pub fn run(args: &RunArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
         return shard::run_shard(args, text, warn);
     }
     let (study, mut options) = load(&args.study)?;
-    check_outputs(&args.out)?;
-    if let Some(path) = &args.samples {
-        output::check_writable(path, args.out.force)?;
-        output::check_folder(path)?;
-    }
+    check_outputs(
+        &args.out,
+        &[&args.study.file],
+        &args
+            .samples
+            .iter()
+            .map(PathBuf::as_path)
+            .collect::<Vec<_>>(),
+    )?;
     // Input columns are kept for the input figures and the samples file.
     // The HTML report draws the figures into the page.
     options.keep_inputs = args.out.plots.is_some()
@@ -74,7 +78,7 @@ pub fn run(args: &RunArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
 /// `radforce rank`: the Sobol sensitivity ranking beside an ordinary run.
 pub fn rank(args: &RankArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
     let (study, options) = load(&args.study)?;
-    check_outputs(&args.out)?;
+    check_outputs(&args.out, &[&args.study.file], &[])?;
     let rank = RankOptions {
         base_rows: args.base_trials,
         sampler: args.sampler,
@@ -102,13 +106,17 @@ pub fn rank(args: &RankArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
 pub fn compare(args: &CompareArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
     let settings = &args.settings;
     options::check_threads(settings.threads)?;
-    check_outputs(&args.out)?;
+    check_outputs(
+        &args.out,
+        &args.files.iter().map(PathBuf::as_path).collect::<Vec<_>>(),
+        &[],
+    )?;
     let mut designs = Vec::new();
     for file in &args.files {
         designs.extend(scenario::load_designs(file)?);
     }
     if let Some((_, first)) = designs.first_mut() {
-        options::override_study(first, settings.trials, settings.seed)?;
+        options::override_study(first, settings.trials.as_deref(), settings.seed.as_deref())?;
     }
     let options = RunOptions {
         memory_budget: options::parse_budget(&settings.memory_budget)?,
@@ -129,7 +137,7 @@ pub fn compare(args: &CompareArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error
 /// `radforce plan`: what must improve to reach a target, checked by Monte Carlo.
 pub fn plan(args: &PlanArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
     let (study, options) = load(&args.study)?;
-    check_outputs(&args.out)?;
+    check_outputs(&args.out, &[&args.study.file], &[])?;
     let m = options::measurand_index(&study, args.measurand.as_deref())?;
     let spec = options::parse_target(
         &study,
@@ -150,14 +158,21 @@ pub fn plan(args: &PlanArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> {
 
 /// `radforce merge`: the report of a whole run from its shards' partial results.
 pub fn merge(args: &MergeArgs) -> Result<Vec<u8>, Error> {
-    check_outputs(&args.out)?;
+    if args.out.plots.is_some() {
+        return Err(options::command_line_error(
+            "--plots",
+            "a merged run keeps no values in memory to draw (the shards keep only their tails); draw the figures from a single run",
+            "radforce merge part-0.rfp part-1.rfp --output study.json",
+        ));
+    }
+    check_outputs(
+        &args.out,
+        &args.parts.iter().map(PathBuf::as_path).collect::<Vec<_>>(),
+        &[],
+    )?;
     let mut parts = Vec::new();
     for p in &args.parts {
-        let shown = p.display().to_string();
-        let bytes = std::fs::read(p).map_err(|e| {
-            InputError::file(&shown, format!("cannot read the partial result: {e}"))
-        })?;
-        parts.push((shown.clone(), shard::read_part(&bytes, &shown)?));
+        parts.push((p.display().to_string(), shard::read_part_file(p)?));
     }
     let findings = engine::with_threads(None, || -> Result<Findings, Error> {
         let (study, mc) = shard::merge_parts(&parts)?;
@@ -176,6 +191,8 @@ pub fn export(args: &ExportArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> 
                 .into(),
         );
     }
+    output::check_folder(&args.dir)?;
+    output::check_distinct(&[&args.dir], &[&args.study.file])?;
     options.keep_inputs = true;
     if !super::fits_in_memory(&study, &options) {
         return Err(command_line_error(
@@ -193,20 +210,7 @@ pub fn export(args: &ExportArgs, warn: &dyn Fn(&str)) -> Result<Vec<u8>, Error> 
     let samples =
         samples.ok_or_else(|| numerical("the bundle needs the trials in memory".into()))?;
     let files = report::bundle::bundle(&findings, &samples, args.samples_max).map_err(numerical)?;
-    // Refuse before writing anything if any file would be replaced without --force.
-    for (name, _) in &files {
-        output::check_writable(&args.dir.join(name), args.force)?;
-    }
-    for (name, bytes) in &files {
-        let path = args.dir.join(name);
-        if let Some(parent) = path.parent() {
-            std::fs::create_dir_all(parent).map_err(|e| RunError::Output {
-                path: parent.display().to_string(),
-                message: e.to_string(),
-            })?;
-        }
-        output::write_atomic(&path, bytes, args.force)?;
-    }
+    output::write_folder(&args.dir, &files, args.force)?;
     Ok(format!("wrote {} files into {}\n", files.len(), args.dir.display()).into_bytes())
 }
 

@@ -8,12 +8,30 @@ use crate::error::{Error, InputError, RunError};
 use crate::report::{self, Context, Report};
 use std::path::{Component, Path, PathBuf};
 
-/// Refuse before any work what could not be written afterwards.
-pub(crate) fn check_outputs(out: &OutputArgs) -> Result<(), Error> {
-    if let Some(path) = &out.output {
+/// Refuse before any work what could not be written afterwards: an existing file without
+/// `--force`, a missing or unwritable folder, a report that is one of the run's `inputs` or is
+/// also one of its `others` outputs.
+pub(crate) fn check_outputs(
+    out: &OutputArgs,
+    inputs: &[&Path],
+    others: &[&Path],
+) -> Result<(), Error> {
+    for path in out
+        .output
+        .iter()
+        .map(PathBuf::as_path)
+        .chain(others.iter().copied())
+    {
         output::check_writable(path, out.force)?;
         output::check_folder(path)?;
     }
+    let outputs: Vec<&Path> = out
+        .output
+        .iter()
+        .map(PathBuf::as_path)
+        .chain(others.iter().copied())
+        .collect();
+    output::check_distinct(&outputs, inputs)?;
     if let Some(dir) = &out.plots
         && dir.exists()
         && !dir.is_dir()

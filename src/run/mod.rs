@@ -15,7 +15,7 @@ use crate::scenario::{Law, Study};
 pub mod commands;
 pub(crate) mod deliver;
 pub mod options;
-pub(crate) mod output;
+pub mod output;
 pub(crate) mod progress;
 pub(crate) mod shard;
 

@@ -7,10 +7,16 @@
 //! and, per measurand, the shard's k smallest and k largest values with k = M - q of the whole
 //! run (the whole run's k smallest values are among the union of the shards' k smallest).
 //!
-//! File layout: the line `radforce-part 1`, an 8-byte little-endian length L, L bytes of JSON
-//! (the header, with the chunk summaries; JSON numbers round-trip f64 exactly), then the tails as
-//! little-endian f64: for each measurand its low tail then its high tail, of the lengths the
-//! header gives.
+//! File layout: the line `radforce-part 2`, an 8-byte little-endian length L, L bytes of JSON
+//! (the header, with the chunk summaries; JSON numbers round-trip f64 exactly), the tails as
+//! little-endian f64 (for each measurand its low tail then its high tail, of the lengths the
+//! header gives), and last the SHA-256 digest (FIPS 180-4) of everything before it.
+//!
+//! `merge` trusts nothing in a part: the digest must match (a flipped bit or an edit anywhere is
+//! refused), then every part must be of the same run (the scenario by its content, seed, trials,
+//! coverage, number of shards), each shard exactly once, each holding exactly its chunks with
+//! their trial counts, tails of the lengths the run implies, sorted and finite. The file is read
+//! with its size bounded by what its header announces, itself checked first.
 
 use super::options::{RunArgs, command_line_error, load, parse_shard};
 use super::output;
@@ -23,8 +29,17 @@ use crate::stats::intervals::{intervals_from_tails, merge_tails, q_index, tails}
 use crate::stats::moments::{CoMoments, Moments};
 use crate::stats::summary::from_parts;
 use serde::{Deserialize, Serialize};
+use sha2::{Digest, Sha256};
+use std::io::Read;
+use std::path::Path;
 
-const MAGIC: &[u8] = b"radforce-part 1\n";
+const MAGIC: &[u8] = b"radforce-part 2\n";
+/// The first line of a part written by an earlier version (no digest).
+const MAGIC_1: &[u8] = b"radforce-part 1\n";
+/// Bytes of the SHA-256 digest that ends a part.
+const DIGEST: usize = 32;
+/// Largest header accepted: the scenario (at most 4 MiB) and the chunk summaries of a shard.
+const MAX_HEADER_BYTES: u64 = 1 << 30;
 
 /// A partial result read back.
 #[derive(Clone, Debug)]
@@ -37,6 +52,8 @@ pub(crate) struct Part {
     pub(crate) trials: u64,
     /// Seed.
     pub(crate) seed: u64,
+    /// Coverage probability.
+    pub(crate) coverage: f64,
     /// This shard, K.
     pub(crate) shard: u64,
     /// Of N shards.
@@ -140,6 +157,8 @@ pub(crate) fn write_part(
             out.extend_from_slice(&x.to_le_bytes());
         }
     }
+    let digest = Sha256::digest(&out);
+    out.extend_from_slice(&digest);
     out
 }
 
@@ -149,27 +168,175 @@ fn bad(file: &str, message: impl Into<String>) -> Error {
         .into()
 }
 
-/// Read a partial result; `file` names it in messages.
-pub(crate) fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
-    let broken = || bad(file, "is not a radforce partial result (or is damaged)");
-    let rest = bytes.strip_prefix(MAGIC).ok_or_else(|| {
-        bad(
-            file,
-            "is not a radforce partial result: it does not start with `radforce-part 1`",
-        )
-    })?;
-    if rest.len() < 8 {
-        return Err(broken());
+/// Read a partial result from a file: the first line and the header length first, so that
+/// what is read is bounded by the size the header announces (an endless stream or a wrong file
+/// stops after a few bytes), then the rest, checked by [`read_part`].
+pub(crate) fn read_part_file(path: &Path) -> Result<Part, Error> {
+    let shown = path.display().to_string();
+    let io = |e: std::io::Error| {
+        Error::from(InputError::file(
+            &shown,
+            format!("cannot read the partial result: {e}"),
+        ))
+    };
+    let mut file = std::fs::File::open(path).map_err(io)?;
+    let mut start = vec![0u8; MAGIC.len() + 8];
+    let got = (&mut file)
+        .take(start.len() as u64)
+        .read(&mut start)
+        .map_err(io)?;
+    let mut bytes = start[..got].to_vec();
+    // A short read (a pipe) is completed here; the announced size bounds the rest.
+    while bytes.len() < start.len() {
+        let mut more = vec![0u8; start.len() - bytes.len()];
+        let n = file.read(&mut more).map_err(io)?;
+        if n == 0 {
+            break;
+        }
+        bytes.extend_from_slice(&more[..n]);
     }
+    check_magic(&bytes, &shown)?;
+    if bytes.len() < MAGIC.len() + 8 {
+        return Err(damaged(&shown, "it ends before its header"));
+    }
+    let len = u64::from_le_bytes(bytes[MAGIC.len()..].try_into().unwrap_or([0; 8]));
+    if len > MAX_HEADER_BYTES {
+        return Err(damaged(&shown, "its header length is absurd"));
+    }
+    let mut header = Vec::new();
+    (&mut file).take(len).read_to_end(&mut header).map_err(io)?;
+    if (header.len() as u64) < len {
+        return Err(damaged(&shown, "it ends inside its header"));
+    }
+    let lengths: TailLengths =
+        serde_json::from_slice(&header).map_err(|_| damaged(&shown, "its header is not valid"))?;
+    let values: u64 = lengths
+        .tail_lengths
+        .iter()
+        .try_fold(0u64, |t, &(a, b)| {
+            t.checked_add(a as u64)?.checked_add(b as u64)
+        })
+        .filter(|v| *v <= u64::MAX / 16)
+        .ok_or_else(|| damaged(&shown, "its tail lengths are absurd"))?;
+    let rest_len = 8 * values + DIGEST as u64;
+    // Check the lengths against the run before reading them (the header's claims are verified
+    // again, with the digest, in read_part).
+    check_tail_lengths(&lengths, &shown)?;
+    bytes.extend_from_slice(&header);
+    let before = bytes.len();
+    (&mut file)
+        .take(rest_len + 1)
+        .read_to_end(&mut bytes)
+        .map_err(io)?;
+    if (bytes.len() - before) as u64 != rest_len {
+        return Err(damaged(
+            &shown,
+            "its length differs from what its header announces (cut short or extended)",
+        ));
+    }
+    read_part(&bytes, &shown)
+}
+
+/// The tail lengths and run size of a header, read before the tails.
+#[derive(Deserialize)]
+struct TailLengths {
+    trials: u64,
+    coverage: f64,
+    shard: u64,
+    shards: u64,
+    tail_lengths: Vec<(usize, usize)>,
+}
+
+/// The tail lengths a shard of the run must have: min(k, its trials), k = M - q.
+fn check_tail_lengths(h: &TailLengths, file: &str) -> Result<(), Error> {
+    let plausible = (crate::scenario::MIN_TRIALS..=crate::scenario::MAX_TRIALS).contains(&h.trials)
+        && h.coverage > 0.0
+        && h.coverage < 1.0;
+    if !plausible
+        || h.shards == 0
+        || h.shard >= h.shards
+        || h.shards > h.trials.div_ceil(engine::CHUNK_TRIALS as u64)
+    {
+        return Err(damaged(
+            file,
+            "its header's trials, coverage or shard numbers are impossible",
+        ));
+    }
+    let plan = engine::Plan {
+        shard: Some((h.shard, h.shards)),
+        ..engine::Plan::new(h.trials, 0)
+    };
+    let shard_trials: u64 = plan.chunks().iter().map(|c| c.1 as u64).sum();
+    let m = h.trials as usize;
+    let k = (m - q_index(m, h.coverage)).min(shard_trials as usize);
+    if h.tail_lengths.iter().any(|&(a, b)| a != k || b != k) {
+        return Err(damaged(
+            file,
+            format!("its tails are not of the {k} values a shard of this run keeps"),
+        ));
+    }
+    Ok(())
+}
+
+fn damaged(file: &str, why: impl std::fmt::Display) -> Error {
+    bad(
+        file,
+        format!("is damaged or was edited ({why}); make this shard again"),
+    )
+}
+
+fn check_magic(bytes: &[u8], file: &str) -> Result<(), Error> {
+    let n = bytes.len().min(MAGIC.len());
+    if bytes[..n] == MAGIC_1[..n] && n == MAGIC.len() {
+        return Err(bad(
+            file,
+            "was written by an earlier radforce (part format 1, without a digest); make the shards again with this version",
+        ));
+    }
+    if bytes[..n] != MAGIC[..n] || n < MAGIC.len() {
+        return Err(bad(
+            file,
+            "is not a radforce partial result: it does not start with `radforce-part 2`",
+        ));
+    }
+    Ok(())
+}
+
+/// Read a partial result; `file` names it in messages. The digest is checked first, then the
+/// layout and every value.
+pub(crate) fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
+    check_magic(bytes, file)?;
+    if bytes.len() < MAGIC.len() + 8 + DIGEST {
+        return Err(damaged(file, "it is too short"));
+    }
+    let (body, digest) = bytes.split_at(bytes.len() - DIGEST);
+    if Sha256::digest(body).as_slice() != digest {
+        return Err(damaged(
+            file,
+            "its SHA-256 digest does not match its content",
+        ));
+    }
+    let broken = || damaged(file, "its layout is not that of a partial result");
+    let rest = &body[MAGIC.len()..];
     let mut len = [0u8; 8];
     len.copy_from_slice(&rest[..8]);
-    let len = u64::from_le_bytes(len) as usize;
+    let len = usize::try_from(u64::from_le_bytes(len)).map_err(|_| broken())?;
     let body = &rest[8..];
     if body.len() < len {
         return Err(broken());
     }
     let header: Header = serde_json::from_slice(&body[..len]).map_err(|_| broken())?;
-    let chunks = header
+    check_tail_lengths(
+        &TailLengths {
+            trials: header.trials,
+            coverage: header.coverage,
+            shard: header.shard,
+            shards: header.shards,
+            tail_lengths: header.tail_lengths.clone(),
+        },
+        file,
+    )?;
+    let chunks: Vec<ChunkSummary> = header
         .chunks
         .iter()
         .map(|c| ChunkSummary {
@@ -204,16 +371,59 @@ pub(crate) fn read_part(bytes: &[u8], file: &str) -> Result<Part, Error> {
     for &(a, b) in &header.tail_lengths {
         let lo = take(a).ok_or_else(broken)?;
         let hi = take(b).ok_or_else(broken)?;
+        let sorted = |v: &[f64]| v.iter().all(|x| x.is_finite()) && v.is_sorted();
+        if !sorted(&lo) || !sorted(&hi) {
+            return Err(damaged(
+                file,
+                "a tail holds a value that is not finite or not in order",
+            ));
+        }
         tails.push((lo, hi));
     }
     if !data.is_empty() {
         return Err(broken());
+    }
+    // Exactly the shard's chunks, each with its number of trials and finite statistics.
+    let plan = engine::Plan {
+        shard: Some((header.shard, header.shards)),
+        ..engine::Plan::new(header.trials, header.seed)
+    };
+    let expected = plan.chunks();
+    let finite = |c: &ChunkSummary| {
+        c.moments
+            .iter()
+            .all(|m| m.mean.is_finite() && m.m2.is_finite() && m.m2 >= 0.0)
+            && c.input_pairs.iter().chain(&c.measurand_pairs).all(|p| {
+                [p.mean_x, p.mean_y, p.m2x, p.m2y, p.cxy]
+                    .iter()
+                    .all(|v| v.is_finite())
+            })
+    };
+    let counted = |c: &ChunkSummary, n: usize| {
+        c.moments.len() == header.tail_lengths.len()
+            && c.moments.iter().all(|m| m.count == n as u64)
+            && c.input_pairs
+                .iter()
+                .chain(&c.measurand_pairs)
+                .all(|p| p.count == n as u64)
+    };
+    if chunks.len() != expected.len()
+        || chunks
+            .iter()
+            .zip(&expected)
+            .any(|(c, &(k, n))| c.index != k || !counted(c, n) || !finite(c))
+    {
+        return Err(damaged(
+            file,
+            "its chunks are not exactly those of its shard, with their trials and finite statistics",
+        ));
     }
     Ok(Part {
         scenario_text: header.scenario_text,
         scenario_file: header.scenario_file,
         trials: header.trials,
         seed: header.seed,
+        coverage: header.coverage,
         shard: header.shard,
         shards: header.shards,
         chunks,
@@ -227,23 +437,34 @@ pub(crate) fn merge_parts(parts: &[(String, Part)]) -> Result<(Study, MonteCarlo
     let (first_file, first) = parts
         .first()
         .ok_or_else(|| bad("command line", "no partial results to merge"))?;
+    // The same run: the scenario by its content (not the name it was given), seed, trials,
+    // coverage and number of shards.
     for (file, p) in parts {
         if p.scenario_text != first.scenario_text
             || p.seed != first.seed
             || p.trials != first.trials
+            || p.coverage.to_bits() != first.coverage.to_bits()
             || p.shards != first.shards
-            || p.scenario_file != first.scenario_file
         {
             return Err(bad(
                 file,
                 format!(
-                    "is a shard of another run than {first_file} (scenario, seed, trials or number of shards differ)"
+                    "is a shard of another run than {first_file} (scenario content, seed, trials, coverage or number of shards differ)"
                 ),
             ));
         }
     }
     let n = first.shards;
-    let mut seen = vec![false; n as usize];
+    if n != parts.len() as u64 {
+        return Err(bad(
+            first_file,
+            format!(
+                "the run was made in {n} shards but {} partial results were given; merge needs each shard exactly once",
+                parts.len()
+            ),
+        ));
+    }
+    let mut seen = vec![false; parts.len()];
     for (file, p) in parts {
         if p.shard >= n || seen[p.shard as usize] {
             return Err(bad(
@@ -262,14 +483,29 @@ pub(crate) fn merge_parts(parts: &[(String, Part)]) -> Result<(Study, MonteCarlo
     let mut study = crate::scenario::load_str(&first.scenario_text, &first.scenario_file)?;
     study.seed = first.seed;
     study.trials = first.trials;
+    study.coverage = first.coverage;
     study.adaptive = None;
+    let fits = |p: &Part| {
+        p.tails.len() == study.model.measurands
+            && p.chunks.iter().all(|c| {
+                c.moments.len() == study.model.measurands
+                    && c.input_pairs.len() == study.correlations.pairs.len()
+                    && c.measurand_pairs.len()
+                        == engine::measurand_pair_order(study.model.measurands).len()
+            })
+    };
+    if let Some((file, _)) = parts.iter().find(|(_, p)| !fits(p)) {
+        return Err(damaged(
+            file,
+            "its statistics do not match the measurands and correlations of its scenario",
+        ));
+    }
     let chunks: Vec<ChunkSummary> = parts
         .iter()
         .flat_map(|(_, p)| p.chunks.iter().cloned())
         .collect();
     let nm = study.model.measurands;
-    let (moments, input_pairs, measurand_pairs) =
-        merge_chunks(&chunks, nm, study.correlations.pairs.len());
+    let (moments, input_pairs, measurand_pairs) = merge_chunks(&study, &chunks)?;
     let m = study.trials as usize;
     let k = m - q_index(m, study.coverage);
     let summaries = (0..nm)
@@ -312,6 +548,20 @@ pub(crate) fn run_shard(
             "--trials 100000000 --shard 0/4",
         ));
     }
+    // Options a shard cannot honour are refused, never ignored: it keeps no values to draw or
+    // to list, and it writes a partial result, not a report.
+    for (given, option) in [
+        (args.out.plots.is_some(), "--plots"),
+        (args.samples.is_some(), "--samples"),
+    ] {
+        if given {
+            return Err(command_line_error(
+                option,
+                "a shard writes only a partial result; draw figures and list trials from a single run",
+                "radforce run study.toml --shard 0/4 --output part-0.rfp",
+            ));
+        }
+    }
     let Some(path) = &args.out.output else {
         return Err(command_line_error(
             "--output",
@@ -321,6 +571,7 @@ pub(crate) fn run_shard(
     };
     output::check_writable(path, args.out.force)?;
     output::check_folder(path)?;
+    output::check_distinct(&[path], &[&args.study.file])?;
     let text = crate::scenario::read_scenario_text(&args.study.file)?;
     if !args.out.quiet {
         for w in &study.warnings {

@@ -448,13 +448,29 @@ pub(crate) fn check_domain(
         Domain::Positive | Domain::Incidence | Domain::QualityFactor
     );
     let strict_hi = matches!(ci.domain, Domain::Incidence);
+    // What a value outside the domain most likely meant: a percentage for a fraction, degrees
+    // for an angle written as a bare number (which is read in radians).
+    let intent = |v: f64| -> String {
+        match ci.domain {
+            Domain::UnitInterval if v > 1.0 && v <= 100.0 => "; the values look like a \
+                percentage: write the fraction (99.96 % is 0.9996) or give the unit (\"99.96 %\")"
+                .to_string(),
+            Domain::Incidence if v.abs() >= std::f64::consts::FRAC_PI_2 && v.abs() <= 360.0 => {
+                format!("; a bare number is read in radians: for degrees write \"{v} deg\"")
+            }
+            _ => String::new(),
+        }
+    };
     match &q.law {
         Law::Constant(v) => {
             let below = if strict_lo { *v <= lo } else { *v < lo };
             let above = if strict_hi { *v >= hi } else { *v > hi };
             if below || above {
                 return Err(table.error(
-                    format!("`{name}` must be {what} (got {v} in SI units)"),
+                    format!(
+                        "`{name}` must be {what} (got {v} in SI units){}",
+                        intent(*v)
+                    ),
                     example,
                 ));
             }
@@ -472,8 +488,9 @@ pub(crate) fn check_domain(
                 return Err(table.error(
                     format!(
                         "`{name}` must be {what}, but this {} distribution puts probability {p:.2e} {side} {limit} (SI); \
-                         physically impossible values are refused, not clamped: use a bounded distribution or narrow it",
-                        d.family_name()
+                         physically impossible values are refused, not clamped: use a bounded distribution or narrow it{}",
+                        d.family_name(),
+                        intent(d.mean())
                     ),
                     example,
                 ));

@@ -98,6 +98,7 @@ pub fn load_str(text: &str, file: &str) -> Result<Study, InputError> {
             "key = \"value\"   or   [inputs.name]",
         )
     })?;
+    super::table::refuse_control_characters(&src, &doc)?;
     let top = Table {
         src: &src,
         path: String::new(),

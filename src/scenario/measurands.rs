@@ -480,11 +480,26 @@ impl<'a, 'i> Loader<'a, 'i> {
             &file_span,
             &entry.path,
             format!(
-                "in formula {text:?}, at character {}: {}",
+                "in formula {}, at character {}: {}",
+                formula_excerpt(text, e.position),
                 e.position + 1,
                 e.message
             ),
             "formula = \"(mRc + dmRc) * (1 + (rho_a - rho_a0) * (1/rho_W - 1/rho_R)) - m_nom\"",
         )
     }
+}
+
+/// A formula as quoted in a message: whole when short, else the 60 characters around `at`
+/// with "..." for the rest and the full length.
+fn formula_excerpt(text: &str, at: usize) -> String {
+    let n = text.chars().count();
+    if n <= 120 {
+        return format!("{text:?}");
+    }
+    let start = at.saturating_sub(30).min(n - 60);
+    let part: String = text.chars().skip(start).take(60).collect();
+    let lead = if start > 0 { "..." } else { "" };
+    let tail = if start + 60 < n { "..." } else { "" };
+    format!("{:?} ({n} characters)", format!("{lead}{part}{tail}"))
 }

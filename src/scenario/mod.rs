@@ -26,8 +26,8 @@ pub use crate::physics::noise::{NoiseSettings, PSD_CONVENTION, Target};
 pub use correlation::{CorrelatedGroup, CorrelatedPair, Correlations};
 pub use forecast::Forecast;
 pub use inputs::{InputQuantity, Law, OUTSIDE_TOLERANCE, family_example, family_names};
-pub use load::{load_file, load_str};
 pub(crate) use load::read_scenario_text;
+pub use load::{load_file, load_str};
 pub use noise::{MeasuredNoise, NoiseFloor};
 pub use source::{Source, edit_distance, nearest};
 pub use study::{

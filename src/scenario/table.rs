@@ -35,6 +35,59 @@ pub(crate) struct Entry<'a, 'i> {
     pub(crate) value: &'a Spanned<DeValue<'i>>,
 }
 
+/// Refuse a key or string anywhere in the document that holds a control character other than
+/// tab and newline (written as an escape such as `\u001b`): such characters would reach the
+/// terminal raw in reports and messages, and no scenario needs them. The walk keeps its own
+/// stack, so a deeply nested document cannot overflow the thread's.
+pub(crate) fn refuse_control_characters(
+    src: &Source<'_>,
+    doc: &Spanned<DeTable<'_>>,
+) -> Result<(), InputError> {
+    let bad = |s: &str| s.chars().any(|c| c.is_control() && c != '\t' && c != '\n');
+    let refuse = |span: Range<usize>, what: &str, text: &str| {
+        let shown: String = text
+            .chars()
+            .map(|c| match c {
+                c if c.is_control() && c != '\t' && c != '\n' => {
+                    format!("\\u{{{:04x}}}", c as u32)
+                }
+                c => c.to_string(),
+            })
+            .collect();
+        src.error(
+            &span,
+            "",
+            format!(
+                "{what} \"{shown}\" holds a control character; remove it (reports and messages \
+                 are read on terminals, where such characters act as commands)"
+            ),
+            "title = \"Calibration of a 20 W fibre laser\"",
+        )
+    };
+    let mut stack: Vec<&Spanned<DeValue<'_>>> = Vec::new();
+    let mut tables: Vec<&DeTable<'_>> = vec![doc.get_ref()];
+    loop {
+        if let Some(t) = tables.pop() {
+            for (k, v) in t {
+                if bad(k.get_ref()) {
+                    return Err(refuse(k.span(), "the key", k.get_ref()));
+                }
+                stack.push(v);
+            }
+            continue;
+        }
+        let Some(v) = stack.pop() else {
+            return Ok(());
+        };
+        match v.get_ref() {
+            DeValue::String(s) if bad(s) => return Err(refuse(v.span(), "the text", s)),
+            DeValue::Table(t) => tables.push(t),
+            DeValue::Array(a) => stack.extend(a.iter()),
+            _ => {}
+        }
+    }
+}
+
 /// A short name for the type of a TOML value.
 pub(crate) fn type_name(v: &DeValue<'_>) -> &'static str {
     match v {
@@ -223,6 +276,10 @@ impl<'a, 'i> Entry<'a, 'i> {
             Some(x) if x.is_finite() && x.fract() == 0.0 && x >= min as f64 && x <= max as f64 => {
                 Ok(x as u64)
             }
+            Some(x) if x.is_finite() && x.fract() == 0.0 => Err(self.error(
+                format!("{x} is out of range: expected a whole number from {min} to {max}"),
+                example,
+            )),
             Some(x) => Err(self.error(
                 format!("{x} is not a whole number from {min} to {max}"),
                 example,

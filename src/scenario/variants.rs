@@ -48,6 +48,7 @@ pub(crate) fn load_variants_str(
             "",
         )
     })?;
+    super::table::refuse_control_characters(&src, &doc)?;
     let base = doc.get_ref();
     let top = Table {
         src: &src,

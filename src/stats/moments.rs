@@ -178,7 +178,13 @@ pub fn joint_moments(cols: &[&[f64]]) -> (Vec<Moments>, Vec<CoMoments>) {
         moments.push(Moments {
             count: n as u64,
             mean: m,
-            m2: (m2 - sum_d * sum_d / nf).max(0.0),
+            // An overflowed sum of squares stays infinite (never clamped to 0): the engine
+            // refuses a variance it cannot represent.
+            m2: if m2.is_finite() {
+                (m2 - sum_d * sum_d / nf).max(0.0)
+            } else {
+                f64::INFINITY
+            },
         });
     }
     let mut co = Vec::with_capacity(k * k.saturating_sub(1) / 2);

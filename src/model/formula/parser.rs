@@ -215,8 +215,8 @@ impl Parser {
                 len,
                 format!(
                     "the formula is too long a chain: more than {MAX_HEIGHT} operations build \
-                     on each other here; split it into intermediate formulas (`s1 = a + b + c`, \
-                     then `s1 + d + e`)"
+                     on each other here; split it into intermediate measurands (formula \
+                     \"a + b + c\" in [measurands.s1], then \"s1 + d + e\")"
                 ),
             ));
         }

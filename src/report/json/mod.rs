@@ -486,12 +486,29 @@ const NULLABLE: &[&str] = &[
     "best_phase",
 ];
 
-/// Check that no number was lost: every null sits in a nullable field.
-pub(crate) fn check_numbers(v: &Value, key: &str) -> Result<(), String> {
+/// Check that no number was lost: every null sits in a nullable field. A lost number is named
+/// by its place in the report, objects by their `name` (`measurands[power].estimate`).
+pub(crate) fn check_numbers(v: &Value, path: &str, key: &str) -> Result<(), String> {
     match v {
-        Value::Null if !NULLABLE.contains(&key) => Err(format!("`{key}` is not a finite number")),
-        Value::Array(a) => a.iter().try_for_each(|x| check_numbers(x, key)),
-        Value::Object(o) => o.iter().try_for_each(|(k, x)| check_numbers(x, k)),
+        Value::Null if !NULLABLE.contains(&key) => Err(format!(
+            "`{path}` is not a finite number (the computation overflowed or is undefined there), \
+             so no report was written; check the scale of the inputs of that quantity"
+        )),
+        Value::Array(a) => a.iter().enumerate().try_for_each(|(i, x)| {
+            let here = match x.get("name").and_then(Value::as_str) {
+                Some(name) => format!("{path}[{name}]"),
+                None => format!("{path}[{i}]"),
+            };
+            check_numbers(x, &here, key)
+        }),
+        Value::Object(o) => o.iter().try_for_each(|(k, x)| {
+            let here = if path.is_empty() {
+                k.clone()
+            } else {
+                format!("{path}.{k}")
+            };
+            check_numbers(x, &here, k)
+        }),
         _ => Ok(()),
     }
 }
@@ -509,7 +526,7 @@ impl Exporter for JsonReport {
     }
     fn render(&self, report: &Report<'_>) -> Result<Vec<u8>, String> {
         let value = report_value(report);
-        check_numbers(&value, "")?;
+        check_numbers(&value, "", "")?;
         Ok(pretty(&value))
     }
 }
