@@ -18,6 +18,7 @@ mod exports;
 mod forecast;
 mod generated;
 mod gum;
+mod hostile;
 mod html;
 mod nothing_lost;
 mod scale;

@@ -28,7 +28,10 @@ impl GammaDist {
         let scale = require_positive("scale", scale)?;
         let sampler = rand_distr::Gamma::new(shape, scale)
             .map_err(|e| super::invalid("shape", format!("gamma parameters rejected: {e}")))?;
-        let reference = statrs::distribution::Gamma::new(shape, 1.0 / scale)
+        // The standard gamma (scale 1), scaled outside: statrs's inverse_cdf iterates without
+        // end for a rate of 1/scale that overflows or underflows (found by the generated
+        // tests with scale 5e-324).
+        let reference = statrs::distribution::Gamma::new(shape, 1.0)
             .map_err(|e| super::invalid("shape", format!("gamma parameters rejected: {e}")))?;
         Ok(GammaDist {
             shape,
@@ -66,13 +69,21 @@ impl Family for GammaDist {
         self.sampler.sample(rng)
     }
     fn quantile(&self, p: f64) -> f64 {
-        self.reference.inverse_cdf(p.clamp(0.0, 1.0))
+        self.scale * self.reference.inverse_cdf(p.clamp(0.0, 1.0))
     }
     fn cdf(&self, x: f64) -> f64 {
-        if x <= 0.0 { 0.0 } else { self.reference.cdf(x) }
+        if x <= 0.0 {
+            0.0
+        } else {
+            self.reference.cdf(x / self.scale)
+        }
     }
     fn pdf(&self, x: f64) -> f64 {
-        if x < 0.0 { 0.0 } else { self.reference.pdf(x) }
+        if x < 0.0 {
+            0.0
+        } else {
+            self.reference.pdf(x / self.scale) / self.scale
+        }
     }
     /// Scaled, keeping the shape (and so the relative spread).
     fn with_mean(&self, mean: f64) -> Result<Distribution, ParameterError> {

@@ -8,7 +8,7 @@ use super::options::{
     command_line_error, load,
 };
 use super::progress::Progress;
-use super::{RankOptions, RunOptions, output, shard};
+use super::{RankOptions, RunOptions, output, part, shard};
 use crate::analysis::Findings;
 use crate::engine;
 use crate::error::{Error, InputError, RunError};
@@ -172,7 +172,7 @@ pub fn merge(args: &MergeArgs) -> Result<Vec<u8>, Error> {
     )?;
     let mut parts = Vec::new();
     for p in &args.parts {
-        parts.push((p.display().to_string(), shard::read_part_file(p)?));
+        parts.push((p.display().to_string(), part::read_part_file(p)?));
     }
     let findings = engine::with_threads(None, || -> Result<Findings, Error> {
         let (study, mc) = shard::merge_parts(&parts)?;

@@ -16,6 +16,7 @@ pub mod commands;
 pub(crate) mod deliver;
 pub mod options;
 pub mod output;
+pub(crate) mod part;
 pub(crate) mod progress;
 pub(crate) mod shard;
 

@@ -371,3 +371,53 @@ mod tests {
         std::fs::remove_dir_all(&dir).unwrap();
     }
 }
+
+#[cfg(test)]
+mod races {
+    use super::*;
+
+    // Racing writers (200 rounds of 8 threads writing one new file without --force): exactly
+    // one wins, the file holds the winner's bytes whole, and no temporary file is left.
+    #[test]
+    fn racing_writers_never_both_win() {
+        let dir = std::env::temp_dir().join(format!(
+            "radforce-races-{}-{:x}",
+            std::process::id(),
+            rand::random::<u32>()
+        ));
+        std::fs::create_dir_all(&dir).unwrap();
+        for round in 0..200 {
+            let path = dir.join(format!("r{round}.txt"));
+            let winners: Vec<usize> = std::thread::scope(|s| {
+                let handles: Vec<_> = (0..8)
+                    .map(|t| {
+                        let path = path.clone();
+                        s.spawn(move || {
+                            let bytes = vec![b'a' + t as u8; 4096];
+                            write_atomic(&path, &bytes, false).ok().map(|()| t)
+                        })
+                    })
+                    .collect();
+                handles
+                    .into_iter()
+                    .filter_map(|h| h.join().unwrap())
+                    .collect()
+            });
+            assert_eq!(winners.len(), 1, "round {round}: {winners:?}");
+            let content = std::fs::read(&path).unwrap();
+            assert_eq!(content, vec![b'a' + winners[0] as u8; 4096]);
+        }
+        let left = std::fs::read_dir(&dir)
+            .unwrap()
+            .filter(|e| {
+                e.as_ref()
+                    .unwrap()
+                    .file_name()
+                    .to_string_lossy()
+                    .contains("partial")
+            })
+            .count();
+        assert_eq!(left, 0);
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+}
