@@ -8,26 +8,11 @@ use crate::common::scratch;
 use proptest::prelude::*;
 use radforce::dist::{ParamKind, families};
 use radforce::engine::{Plan, simulate};
-use radforce::model::formula::{Expr, parse};
+use radforce::model::formula::{MAX_HEIGHT, parse};
+
 use radforce::scenario::load_str;
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
-
-/// The height of an expression tree, walked without recursion.
-fn height(e: &Expr) -> usize {
-    let mut tallest = 0;
-    let mut stack = vec![(e, 1)];
-    while let Some((e, h)) = stack.pop() {
-        tallest = tallest.max(h);
-        match e {
-            Expr::Neg(a) => stack.push((a, h + 1)),
-            Expr::Binary(_, a, b) => stack.extend([(&**a, h + 1), (&**b, h + 1)]),
-            Expr::Call(_, args) => stack.extend(args.iter().map(|a| (a, h + 1))),
-            _ => {}
-        }
-    }
-    tallest
-}
 
 /// Values that broke the loader or the engine before: subnormal, tiny, huge, negative zero.
 const EXTREMES: &[f64] = &[
@@ -111,7 +96,7 @@ proptest! {
         text.push_str(&")".repeat(parens));
         match parse(&text) {
             // What is accepted stays within the 500 levels every later pass can walk.
-            Ok(e) => prop_assert!(height(&e) <= 500, "{}", height(&e)),
+            Ok(e) => prop_assert!(e.height() <= MAX_HEIGHT, "{}", e.height()),
             Err(e) => prop_assert!(e.position <= text.chars().count()),
         }
     }

@@ -21,7 +21,7 @@ mod program;
 pub use constants::{CONSTANTS, FormulaConstant, constant};
 pub use dimension::{Dim, infer as infer_dimension, same as same_dimension};
 pub(crate) use order::topological_order;
-pub use parser::{Expr, Func, parse};
+pub use parser::{Expr, Func, MAX_HEIGHT, parse};
 pub use program::{Op, Program, Reference, compile};
 
 /// A formula error at a character position (0-based) of the formula text.

@@ -84,6 +84,25 @@ pub enum Expr {
     Call(Func, Vec<Expr>),
 }
 
+impl Expr {
+    /// The height of the tree (a leaf is 1), walked without recursion; the parser keeps it
+    /// within [`MAX_HEIGHT`].
+    pub fn height(&self) -> usize {
+        let mut tallest = 0;
+        let mut stack = vec![(self, 1)];
+        while let Some((e, h)) = stack.pop() {
+            tallest = tallest.max(h);
+            match e {
+                Expr::Neg(a) => stack.push((a, h + 1)),
+                Expr::Binary(_, a, b) => stack.extend([(&**a, h + 1), (&**b, h + 1)]),
+                Expr::Call(_, args) => stack.extend(args.iter().map(|a| (a, h + 1))),
+                _ => {}
+            }
+        }
+        tallest
+    }
+}
+
 #[derive(Clone, Debug, PartialEq)]
 enum Tok {
     Num(f64),
@@ -189,7 +208,7 @@ const MAX_DEPTH: usize = 200;
 /// Tallest expression tree accepted: a chain of operators (`a + a + ... + a`) is parsed in a
 /// loop but builds a tree as tall as it is long, which every later pass (folding, dimensions,
 /// compiling, freeing) walks recursively; 500 levels stay far inside the smallest thread stack.
-pub(crate) const MAX_HEIGHT: usize = 500;
+pub const MAX_HEIGHT: usize = 500;
 
 impl Parser {
     fn peek(&self) -> &Token {
@@ -457,25 +476,6 @@ mod tests {
         assert!(parse(&deep).unwrap_err().message.contains("deeply"));
     }
 
-    /// Iterative height of a tree (the check itself must not recurse).
-    fn height(e: &Expr) -> usize {
-        let mut tallest = 0;
-        let mut stack = vec![(e, 1)];
-        while let Some((e, h)) = stack.pop() {
-            tallest = tallest.max(h);
-            match e {
-                Expr::Neg(a) => stack.push((a, h + 1)),
-                Expr::Binary(_, a, b) => {
-                    stack.push((a, h + 1));
-                    stack.push((b, h + 1));
-                }
-                Expr::Call(_, args) => stack.extend(args.iter().map(|a| (a, h + 1))),
-                _ => {}
-            }
-        }
-        tallest
-    }
-
     #[test]
     fn long_chains_are_refused_before_they_grow_a_tall_tree() {
         // Every kind of chain, within the limit and far past it (30 000 terms, 60 kB: the
@@ -484,7 +484,7 @@ mod tests {
             let terms = |n: usize| vec!["a"; n].join(op);
             // `^` is right-associative, parsed by recursion: the nesting limit applies first.
             let ok = parse(&terms(150)).unwrap();
-            assert_eq!(height(&ok), 150);
+            assert_eq!(ok.height(), 150);
             let e = parse(&terms(30_000)).unwrap_err();
             assert!(
                 e.message.contains("too long a chain") || e.message.contains("deeply"),
@@ -497,6 +497,6 @@ mod tests {
         let nested_calls = "abs(".repeat(80) + &vec!["a"; 450].join("+") + &")".repeat(80);
         assert!(parse(&nested_calls).unwrap_err().message.contains("chain"));
         let wide = format!("max({})", vec!["a"; 30_000].join(", "));
-        assert_eq!(height(&parse(&wide).unwrap()), 2);
+        assert_eq!(parse(&wide).unwrap().height(), 2);
     }
 }
