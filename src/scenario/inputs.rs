@@ -317,6 +317,23 @@ pub(crate) fn read_input(
                 list: &readings,
             });
             let dist = built.map_err(|e| param_error(table, e, example))?;
+            // A spread below the resolution of a double at the value (about 1e-16 of it, or a
+            // subnormal spread) gives trials that are all equal: u would come out 0 for a
+            // quantity stated to vary. Refused, with the way out.
+            let (mean, sd) = (dist.mean(), dist.standard_deviation());
+            if sd < 4.0 * f64::EPSILON * mean.abs() || sd < f64::MIN_POSITIVE {
+                let spread = if sd > 0.0 {
+                    format!("standard deviation {sd:e}")
+                } else {
+                    "its variance underflows to 0".to_string()
+                };
+                return Err(table.error(
+                    format!(
+                        "the spread of `{name}` ({spread}) is below what double precision resolves at its value ({mean:e}): every trial would draw the same number and u would be 0; give it as a constant `value`, or make the input its deviation from a reference value (the formula adding the reference back)"
+                    ),
+                    example,
+                ));
+            }
             let dof = match (dist.degrees_of_freedom(), table.get("dof")) {
                 (Some(nu), _) => Some(nu),
                 (None, Some(e)) => Some(type_b_degrees_of_freedom(&e)?),
