@@ -103,7 +103,8 @@ proptest! {
 }
 
 // A 60 kB flat chain (the case that overflowed the stack) is refused by `check` with exit 2
-// and a short message that quotes an excerpt, not the whole formula.
+// (the project's code for bad input; exit codes 2 and 130 follow common practice) and a short
+// message that quotes an excerpt, not the whole formula.
 #[test]
 fn a_huge_flat_chain_is_refused_by_check() {
     let dir = scratch("chain");
@@ -139,7 +140,7 @@ fn an_endless_stream_is_read_no_further_than_the_limit() {
 }
 
 // Ctrl-C (SIGINT) at random moments of a run writing over an existing file with --force: the
-// run ends with 130 and the old file as it was, or with 0 and the whole new report; never
+// run ends with 130 (128 + SIGINT, the shells' convention: common practice) and the old file as it was, or with 0 and the whole new report; never
 // another code, a half-written file or a temporary file left behind. The moments cover the
 // trials, the analysis and the writing (delays from 0 to 600 ms on a run of about half a second).
 #[cfg(unix)]

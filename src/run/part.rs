@@ -170,21 +170,12 @@ pub(crate) fn read_part_file(path: &Path) -> Result<Part, Error> {
         ))
     };
     let mut file = std::fs::File::open(path).map_err(io)?;
-    let mut start = vec![0u8; MAGIC.len() + 8];
-    let got = (&mut file)
-        .take(start.len() as u64)
-        .read(&mut start)
+    // The first line and the header length (`read_to_end` completes short reads of a pipe).
+    let mut bytes = Vec::new();
+    (&mut file)
+        .take(MAGIC.len() as u64 + 8)
+        .read_to_end(&mut bytes)
         .map_err(io)?;
-    let mut bytes = start[..got].to_vec();
-    // A short read (a pipe) is completed here; the announced size bounds the rest.
-    while bytes.len() < start.len() {
-        let mut more = vec![0u8; start.len() - bytes.len()];
-        let n = file.read(&mut more).map_err(io)?;
-        if n == 0 {
-            break;
-        }
-        bytes.extend_from_slice(&more[..n]);
-    }
     check_magic(&bytes, &shown)?;
     if bytes.len() < MAGIC.len() + 8 {
         return Err(damaged(&shown, "it ends before its header"));
